@@ -1,0 +1,260 @@
+"""Frozen, validated parameter dataclasses with bounds in field metadata.
+
+A block's parameters are a keyword-only frozen dataclass deriving from
+:class:`Params`. Each numeric field is declared with :func:`bounded`, which
+stores the allowed range and the unit in the field's metadata; validation
+runs in ``__post_init__`` and raises :class:`~wavebench.core.errors.ParameterError`
+naming the field, the value and the range.
+
+A numeric field may hold a scalar or an array with a leading trial axis
+(per-trial parameters, e.g. a dispersed mass); every element is checked.
+
+Examples
+--------
+>>> from dataclasses import dataclass
+>>> @dataclass(frozen=True, kw_only=True)
+... class Hull(Params):
+...     mass_kg: float = bounded(gt=0.0, unit="kg", doc="displaced mass")
+>>> Hull(mass_kg=-1.0)
+Traceback (most recent call last):
+...
+wavebench.core.errors.ParameterError: mass_kg = -1.0 is not allowed: must be a finite number > 0.0
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import difflib
+from collections.abc import Mapping
+from dataclasses import dataclass
+from typing import Any, TypeVar
+
+import numpy as np
+
+from .errors import ParameterError
+
+__all__ = ["Bounds", "Params", "bounded", "check_value", "params_from_dict", "params_to_dict"]
+
+_MISSING = dataclasses.MISSING
+
+
+@dataclass(frozen=True)
+class Bounds:
+    """Allowed range of a numeric parameter.
+
+    Parameters
+    ----------
+    ge, gt, le, lt : float or None
+        Inclusive / exclusive lower and upper limits.
+    finite : bool
+        Whether NaN and infinities are rejected (default True).
+    integer : bool
+        Whether the value must be a whole number.
+    """
+
+    ge: float | None = None
+    gt: float | None = None
+    le: float | None = None
+    lt: float | None = None
+    finite: bool = True
+    integer: bool = False
+
+    def describe(self) -> str:
+        """Human-readable statement of the range, e.g. ``a finite number > 0``."""
+        parts = []
+        if self.ge is not None:
+            parts.append(f">= {self.ge}")
+        if self.gt is not None:
+            parts.append(f"> {self.gt}")
+        if self.le is not None:
+            parts.append(f"<= {self.le}")
+        if self.lt is not None:
+            parts.append(f"< {self.lt}")
+        noun = "whole number" if self.integer else "number"
+        text = f"must be a finite {noun}" if self.finite else f"must be a {noun}"
+        if parts:
+            text += " " + " and ".join(parts)
+        return text
+
+    def violated(self, value: np.ndarray) -> bool:
+        """True where any element of ``value`` lies outside the range."""
+        v = np.asarray(value, dtype=float)
+        if self.finite and not np.all(np.isfinite(v)):
+            return True
+        # NaN compares False, so test the allowed condition and negate.
+        with np.errstate(invalid="ignore"):
+            if self.ge is not None and not np.all(v >= self.ge):
+                return True
+            if self.gt is not None and not np.all(v > self.gt):
+                return True
+            if self.le is not None and not np.all(v <= self.le):
+                return True
+            if self.lt is not None and not np.all(v < self.lt):
+                return True
+        if self.integer and not np.all(np.mod(v, 1.0) == 0.0):
+            return True
+        return False
+
+
+def bounded(
+    default: Any = _MISSING,
+    *,
+    ge: float | None = None,
+    gt: float | None = None,
+    le: float | None = None,
+    lt: float | None = None,
+    finite: bool = True,
+    integer: bool = False,
+    unit: str = "",
+    doc: str = "",
+) -> Any:
+    """Declare a numeric dataclass field with an allowed range.
+
+    Parameters
+    ----------
+    default : float, optional
+        Default value; omit for a required field.
+    ge, gt, le, lt : float, optional
+        Inclusive / exclusive bounds.
+    finite : bool
+        Reject NaN and infinities (default True).
+    integer : bool
+        Require a whole number.
+    unit : str
+        SI unit of the field, for documentation and recorded attributes.
+    doc : str
+        One-line description.
+
+    Returns
+    -------
+    dataclasses.Field
+        A field whose metadata holds ``bounds``, ``unit`` and ``doc``.
+    """
+    metadata = {
+        "bounds": Bounds(ge=ge, gt=gt, le=le, lt=lt, finite=finite, integer=integer),
+        "unit": unit,
+        "doc": doc,
+    }
+    if default is _MISSING:
+        return dataclasses.field(metadata=metadata)
+    return dataclasses.field(default=default, metadata=metadata)
+
+
+def check_value(name: str, value: Any, bounds: Bounds) -> Any:
+    """Check one value (scalar or array) against ``bounds``.
+
+    Parameters
+    ----------
+    name : str
+        Field name used in the error message.
+    value : float or array_like
+        Value to check.
+    bounds : Bounds
+        Allowed range.
+
+    Returns
+    -------
+    float or ndarray
+        The value, as a float for scalars or a read-only float array.
+
+    Raises
+    ------
+    ParameterError
+        If the value is not numeric or lies outside the range.
+    """
+    if isinstance(value, bool) or value is None or isinstance(value, str):
+        raise ParameterError(name, value, bounds.describe())
+    try:
+        arr = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise ParameterError(name, value, bounds.describe()) from None
+    if bounds.violated(arr):
+        raise ParameterError(name, value if arr.ndim else float(arr), bounds.describe())
+    if arr.ndim == 0:
+        return float(arr)
+    arr = arr.copy()
+    arr.setflags(write=False)
+    return arr
+
+
+@dataclass(frozen=True, kw_only=True)
+class Params:
+    """Base class for frozen, validated block parameters.
+
+    Subclasses are declared ``@dataclass(frozen=True, kw_only=True)`` and use
+    :func:`bounded` for numeric fields. Validation happens on construction;
+    a subclass may add cross-field checks in ``_check`` (raise
+    :class:`ParameterError`).
+    """
+
+    def __post_init__(self) -> None:
+        for f in dataclasses.fields(self):
+            bounds = f.metadata.get("bounds")
+            if bounds is None:
+                continue
+            checked = check_value(f.name, getattr(self, f.name), bounds)
+            object.__setattr__(self, f.name, checked)
+        self._check()
+
+    def _check(self) -> None:
+        """Cross-field checks; override in subclasses."""
+
+    @classmethod
+    def field_units(cls) -> dict[str, str]:
+        """Map of field name to SI unit, for fields declared with a unit."""
+        return {f.name: f.metadata.get("unit", "") for f in dataclasses.fields(cls)}
+
+
+P = TypeVar("P", bound=Params)
+
+
+def params_from_dict(cls: type[P], data: Mapping[str, Any], path: str = "") -> P:
+    """Build ``cls`` from a mapping, rejecting unknown keys with a suggestion.
+
+    Parameters
+    ----------
+    cls : type
+        A :class:`Params` subclass.
+    data : Mapping
+        Field values keyed by field name (e.g. a TOML table).
+    path : str
+        Dotted path of the table, used as a prefix in error messages.
+
+    Returns
+    -------
+    Params
+        The validated instance.
+
+    Raises
+    ------
+    ParameterError
+        For unknown or missing keys and out-of-range values.
+    """
+    names = [f.name for f in dataclasses.fields(cls) if f.init]
+    prefix = f"{path}." if path else ""
+    for key in data:
+        if key not in names:
+            close = difflib.get_close_matches(key, names, n=1)
+            hint = f"did you mean '{close[0]}'?" if close else ""
+            raise ParameterError(
+                f"{prefix}{key}", data[key], f"unknown key; allowed keys are {sorted(names)}", hint
+            )
+    try:
+        return cls(**dict(data))
+    except ParameterError as exc:
+        raise (exc.with_prefix(path) if path else exc) from None
+    except TypeError as exc:  # a missing required field
+        raise ParameterError(path or cls.__name__, dict(data), str(exc)) from None
+
+
+def params_to_dict(params: Params) -> dict[str, Any]:
+    """Plain-data view of a :class:`Params` (arrays as nested lists)."""
+    out: dict[str, Any] = {}
+    for f in dataclasses.fields(params):
+        value = getattr(params, f.name)
+        if isinstance(value, np.ndarray):
+            value = value.tolist()
+        elif isinstance(value, Params):
+            value = params_to_dict(value)
+        out[f.name] = value
+    return out
