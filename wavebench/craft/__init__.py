@@ -1,0 +1,1 @@
+"""Craft: the 3-DOF manoeuvring model, actuators, demo craft, integration, manoeuvres."""

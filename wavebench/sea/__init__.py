@@ -1,0 +1,1 @@
+"""Sea and environment: spectra, spreading, dispersion, realisations, current, wind, seabed."""
