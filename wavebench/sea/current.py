@@ -474,7 +474,7 @@ class GriddedCurrent:
     ----------
     time_s : ndarray of shape (n_time,)
         Strictly increasing times [s] since the trial start; one entry for a
-        steady field.
+        steady field (then valid at any time).
     north_m : ndarray of shape (n_north,)
         Strictly increasing north coordinates [m], at least 2.
     east_m : ndarray of shape (n_east,)
@@ -530,6 +530,9 @@ def _locate(
     """Lower index, upper index and weight of ``q`` on a strictly increasing axis."""
     if not np.all(np.isfinite(q)):
         raise ParameterError(name, q, "query must be finite")
+    if axis.size == 1:  # a steady field: the time of the query does not matter
+        zero = np.zeros(q.shape, dtype=np.intp)
+        return zero, zero, np.zeros(q.shape)
     lo, hi = axis[0], axis[-1]
     if clamp:
         q = np.clip(q, lo, hi)
@@ -540,9 +543,6 @@ def _locate(
             f"query outside the grid [{lo}, {hi}]",
             "extend the grid or build the field with outside='clamp'",
         )
-    if axis.size == 1:
-        zero = np.zeros(q.shape, dtype=np.intp)
-        return zero, zero, np.zeros(q.shape)
     i0 = np.clip(np.searchsorted(axis, q, side="right") - 1, 0, axis.size - 2)
     i1 = i0 + 1
     w = (q - axis[i0]) / (axis[i1] - axis[i0])
