@@ -103,9 +103,9 @@ def _positive(name: str, value: Any) -> Any:
 
 def _pm_shape(omega: NDArray[np.float64], wp: Any) -> NDArray[np.float64]:
     """x^5 exp(-5/4 x^4) with x = wp/omega, equal to 0 at omega = 0."""
-    with np.errstate(divide="ignore"):
+    with np.errstate(divide="ignore", under="ignore"):
         x = np.minimum(wp / omega, _X_CLIP)
-    return x**5 * np.exp(-1.25 * x**4)
+        return x**5 * np.exp(-1.25 * x**4)
 
 
 def _pm_unchecked(omega: NDArray[np.float64], hs: Any, tp: Any) -> NDArray[np.float64]:
@@ -121,9 +121,10 @@ def _jonswap_unchecked(
     gamma = np.asarray(gamma, dtype=float)
     wp = 2.0 * np.pi / tp
     sigma = np.where(omega <= wp, JONSWAP_SIGMA_BELOW, JONSWAP_SIGMA_ABOVE)
-    r = np.exp(-0.5 * ((omega - wp) / (sigma * wp)) ** 2)
-    a_gamma = 1.0 - 0.287 * np.log(gamma)
-    return a_gamma * _pm_unchecked(omega, hs, tp) * gamma**r
+    with np.errstate(under="ignore"):
+        r = np.exp(-0.5 * ((omega - wp) / (sigma * wp)) ** 2)
+        a_gamma = 1.0 - 0.287 * np.log(gamma)
+        return a_gamma * _pm_unchecked(omega, hs, tp) * gamma**r
 
 
 def pierson_moskowitz(omega: ArrayLike, hs_m: ArrayLike, tp_s: ArrayLike) -> NDArray[np.float64]:
