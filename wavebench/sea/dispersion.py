@@ -114,6 +114,8 @@ def wavenumber(omega: ArrayLike, depth_m: ArrayLike = np.inf, g: float = G) -> A
     w = _check_omega(omega)
     h = _check_depth(depth_m)
     w, h = np.broadcast_arrays(w, h)
+    shape = w.shape
+    w, h = w.ravel(), h.ravel()
     k = w**2 / g
     with np.errstate(invalid="ignore", over="ignore"):
         y = k * h  # nan for omega = 0 in deep water, inf for omega > 0 there
@@ -129,9 +131,8 @@ def wavenumber(omega: ArrayLike, depth_m: ArrayLike = np.inf, g: float = G) -> A
             x = x - dx
             if np.all(np.abs(dx) <= _REL_TOL * x):
                 break
-        k = k.copy()
         k[solve] = x / h[solve]
-    return _out(k)
+    return _out(k.reshape(shape))
 
 
 def wavelength(period_s: ArrayLike, depth_m: ArrayLike = np.inf, g: float = G) -> Any:
