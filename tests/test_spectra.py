@@ -388,3 +388,18 @@ def test_no_warning_inside_range_or_with_dnv_rule():
         pierson_moskowitz(w, 1.0, 8.0)
         SeaSpectrum(kind="jonswap", hs_m=1.0, tp_s=8.0).density(w)
         SeaSpectrum(kind="pierson_moskowitz", hs_m=1.0, tp_s=8.0).density(w)
+
+
+def test_batch_summary_and_band_per_trial():
+    # Per-trial PM sea states on per-trial grids (N, K): Hm0 = Hs per row (DNV-RP-C205,
+    # Hm0 = 4 sqrt(m0)) and the PM closed-form Tz = (5/4)^(-1/4) pi^(-1/4) Tp per row.
+    hs = np.array([0.5, 2.0, 7.0])
+    tp = np.array([3.0, 8.0, 15.0])
+    sea = SeaSpectrum(kind="pierson_moskowitz", hs_m=hs, tp_s=tp)
+    lo, hi = sea.frequency_band(1e-3)
+    assert lo.shape == hi.shape == (3,)
+    w = np.stack([wide_grid(t) for t in tp])
+    summ = spectral_summary(w, sea.density(w))
+    np.testing.assert_allclose(summ.hm0_m, hs, rtol=1e-4)
+    np.testing.assert_allclose(summ.tz_s, 1.25**-0.25 * math.pi**-0.25 * tp, rtol=1e-4)
+    np.testing.assert_allclose(summ.tp_s, tp, rtol=1e-4)
