@@ -16,8 +16,9 @@ Conventions
   raise :class:`ParameterError` when they are built or loaded.
 
 Files: :func:`save_seabed` / :func:`load_seabed` write and read NetCDF
-through xarray (engine ``h5netcdf`` by default; ``netcdf4`` works too), with
-CF-style ``units``/``positive``/``long_name`` attributes.
+through xarray with CF-style ``units``/``positive``/``long_name``
+attributes. Unless an engine is named, ``"h5netcdf"`` is used when its
+``h5py`` backend is importable, else ``"netcdf4"``.
 
 The synthetic bay of :func:`synthetic_bay` is invented demo terrain (our own
 design, not a real place): see :class:`SyntheticBayParams`.
@@ -25,6 +26,7 @@ design, not a real place): see :class:`SyntheticBayParams`.
 
 from __future__ import annotations
 
+import importlib.util
 import math
 import os
 from dataclasses import dataclass
@@ -398,6 +400,16 @@ def synthetic_bay(params: SyntheticBayParams, rng: np.random.Generator) -> Seabe
 _FILL_ATTR = "fill_depth_m"
 
 
+def _netcdf_engine(engine: str | None) -> str | None:
+    """The engine to use: the one named, else h5netcdf (with h5py), else netcdf4."""
+    if engine is not None:
+        return engine
+    for module, name in (("h5py", "h5netcdf"), ("netCDF4", "netcdf4")):
+        if importlib.util.find_spec(module) is not None:
+            return name
+    return None  # let xarray choose (e.g. scipy, NetCDF-3)
+
+
 def seabed_to_dataset(seabed: SeabedGrid) -> Any:
     """The grid as an :class:`xarray.Dataset` with CF-style attributes.
 
@@ -512,7 +524,7 @@ def seabed_from_dataset(
 
 
 def save_seabed(
-    seabed: SeabedGrid, path: str | os.PathLike[str], *, engine: str = "h5netcdf"
+    seabed: SeabedGrid, path: str | os.PathLike[str], *, engine: str | None = None
 ) -> None:
     """Write a grid to a NetCDF file (see :func:`seabed_to_dataset`).
 
@@ -521,10 +533,11 @@ def save_seabed(
     seabed : SeabedGrid
     path : str or path-like
         Output file.
-    engine : str
-        xarray NetCDF engine (``"h5netcdf"`` or ``"netcdf4"``).
+    engine : str, optional
+        xarray NetCDF engine (``"h5netcdf"`` or ``"netcdf4"``); default:
+        h5netcdf if ``h5py`` is importable, else netcdf4.
     """
-    seabed_to_dataset(seabed).to_netcdf(path, engine=engine)
+    seabed_to_dataset(seabed).to_netcdf(path, engine=_netcdf_engine(engine))
 
 
 def load_seabed(
@@ -544,7 +557,7 @@ def load_seabed(
     variable, positive, fill_depth_m
         As for :func:`seabed_from_dataset`.
     engine : str, optional
-        xarray engine; default lets xarray choose.
+        xarray engine; default as for :func:`save_seabed`.
 
     Returns
     -------
@@ -552,7 +565,7 @@ def load_seabed(
     """
     import xarray as xr
 
-    with xr.open_dataset(path, engine=engine) as ds:
+    with xr.open_dataset(path, engine=_netcdf_engine(engine)) as ds:
         ds.load()
         return seabed_from_dataset(
             ds, variable=variable, positive=positive, fill_depth_m=fill_depth_m
