@@ -27,7 +27,9 @@ starboard)::
 with the relative wind ``u_rw = u - u_w``, ``v_rw = v - v_w`` (craft
 velocity over ground minus air velocity, body axes),
 ``V_rw = sqrt(u_rw**2 + v_rw**2)`` and the angle of attack
-``gamma_rw = -atan2(v_rw, u_rw)``: 0 for a relative wind from dead ahead,
+``gamma_rw = -atan2(v_rw, u_rw)`` (Fossen's definitions as remembered, not
+re-checked; the signs below are what the load tests check): 0 for a
+relative wind from dead ahead,
 -90 deg from the starboard beam, +90 deg from the port beam, 180 deg from
 astern. A head wind gives a negative surge force; a wind from starboard
 pushes the craft to port.
