@@ -1006,8 +1006,8 @@ def rao_from_dataset(ds: Any, *, speed_mps: float | None = None) -> RaoTable:
 def write_rao_netcdf(
     table: RaoTable, path: str | os.PathLike[str], *, form: str = "real_imag"
 ) -> None:
-    """Write a table to a NetCDF-4 file (h5netcdf engine); see :func:`rao_to_dataset`."""
-    rao_to_dataset(table, form=form).to_netcdf(Path(path), engine="h5netcdf")
+    """Write a table to a NetCDF file (xarray's default engine); see :func:`rao_to_dataset`."""
+    rao_to_dataset(table, form=form).to_netcdf(Path(path))
 
 
 def read_rao_netcdf(path: str | os.PathLike[str], *, speed_mps: float | None = None) -> RaoTable:
