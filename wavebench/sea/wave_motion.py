@@ -448,10 +448,14 @@ def response_spectrum(
         d = np.atleast_2d(spreading.density(theta))  # (n_d, n_dir)
         n_tr = _common_trials(s.shape[0], psi.size, d.shape[0])
         rel = theta[None, :] - np.broadcast_to(psi, (n_tr,))[:, None]  # (n_tr, n_dir)
-        h2 = np.abs(rao.evaluate_by_dof(w[None, :, None], rel[:, None, :])) ** 2
         dtheta = 2.0 * np.pi / n_directions
         weights = np.broadcast_to(d, (n_tr, n_directions))[:, None, :] * dtheta
-        h2 = np.sum(h2 * weights, axis=-1)  # (6, n_tr, n_freq)
+        h2 = np.empty((len(DOFS), n_tr, w.size))
+        chunk = max(1, _CHUNK_ELEMENTS // (n_tr * n_directions))
+        for start in range(0, w.size, chunk):
+            sl = slice(start, start + chunk)
+            hc = rao.evaluate_by_dof(w[None, sl, None], rel[:, None, :])  # (6, n_tr, nf, n_dir)
+            h2[:, :, sl] = np.sum(np.abs(hc) ** 2 * weights, axis=-1)
     out = h2 * np.broadcast_to(s, (n_tr, w.size))
     return np.ascontiguousarray(np.moveaxis(out, 0, -1))
 
