@@ -76,6 +76,7 @@ __all__ = [
     "drift_force",
     "heading_table",
     "reflection_squared",
+    "root_table",
 ]
 
 #: Number of heading-table intervals over one turn (one-degree grid).
@@ -202,10 +203,33 @@ def heading_table(
     return table
 
 
-def _interp_table(table: NDArray[np.float64], beta_rel: NDArray[np.float64]) -> NDArray[np.float64]:
-    """Periodic linear interpolation of a heading table, shape (..., 3)."""
+def root_table(table: NDArray[np.float64]) -> NDArray[np.float64]:
+    """Square roots of the positive and negative parts of a heading table.
+
+    Parameters
+    ----------
+    table : ndarray of shape (n_headings + 1, 3)
+        ``G(beta)`` from :func:`heading_table`.
+
+    Returns
+    -------
+    ndarray of shape (n_headings + 1, 6)
+        Columns ``sqrt(max(G_x, 0)), sqrt(max(-G_x, 0))``, then the same for
+        sway and yaw. Newman's weights interpolate these roots, so the
+        weights need no square root per component at run time.
+    """
+    t = np.asarray(table, dtype=float)
+    cols = []
+    for d in range(3):
+        cols += [np.sqrt(np.maximum(t[:, d], 0.0)), np.sqrt(np.maximum(-t[:, d], 0.0))]
+    return np.stack(cols, axis=1)
+
+
+def _interp_rows(table: NDArray[np.float64], beta_rel: NDArray[np.float64]) -> NDArray[np.float64]:
+    """Periodic linear interpolation of a heading table, shape (..., n_cols)."""
     n = table.shape[0] - 1
-    x = np.mod(beta_rel, 2.0 * np.pi) * (n / (2.0 * np.pi))
+    two_pi = 2.0 * np.pi
+    x = (beta_rel - two_pi * np.floor(beta_rel / two_pi)) * (n / two_pi)
     i = np.minimum(x.astype(np.int64), n - 1)
     f = (x - i)[..., None]
     return table[i] * (1.0 - f) + table[i + 1] * f
@@ -221,6 +245,14 @@ class DriftModel:
         Heading table ``G(beta)`` from :func:`heading_table`.
     reflection : ndarray of shape (n_trials, n_components)
         ``R^2(k_j)`` of each component.
+
+    Notes
+    -----
+    The drift coefficient of component ``j`` in degree of freedom ``i`` is
+    ``T_ij = R^2(k_j) G_i(beta_j - psi)``. Newman's weights are
+    ``w_ij^+- = a_j R(k_j) sqrt(max(+-G_i, 0))``, with the square roots
+    interpolated linearly on the one-degree heading grid (:func:`root_table`),
+    so that ``T_ij = (w_ij^+)^2 - (w_ij^-)^2`` up to that interpolation.
     """
 
     table: NDArray[np.float64]
@@ -246,8 +278,16 @@ class DriftModel:
             depth = depth[:, None]
         return cls(table=table, reflection=reflection_squared(components.wavenumber_radpm, draft_m, depth))
 
-    def coefficients(self, components: WaveComponents, heading_rad: ArrayLike) -> NDArray[np.float64]:
-        """Drift coefficients ``T_ij`` at the craft's heading.
+    def root_table(self) -> NDArray[np.float64]:
+        """See :func:`root_table`; shape (n_headings + 1, 6)."""
+        return root_table(self.table)
+
+    def scale(self, components: WaveComponents) -> NDArray[np.float64]:
+        """Per-component factor ``a_j R(k_j)`` [m], shape (n_trials, n_components)."""
+        return components.amplitude_m * np.sqrt(self.reflection)
+
+    def weights(self, components: WaveComponents, heading_rad: ArrayLike) -> NDArray[np.float64]:
+        """Newman weights at the craft's heading.
 
         Parameters
         ----------
@@ -258,18 +298,18 @@ class DriftModel:
 
         Returns
         -------
-        ndarray of shape (n_trials, n_components, 3)
-            Mean surge force, sway force [N/m^2] and yaw moment [N m/m^2]
-            per unit amplitude squared, in the body frame.
+        ndarray of shape (n_trials, n_components, 6)
+            ``w^+`` and ``w^-`` for surge, sway and yaw [sqrt(N), sqrt(N),
+            sqrt(N m)] (see the class notes).
         """
         psi = np.asarray(heading_rad, dtype=float).reshape(-1, 1)
-        g_beta = _interp_table(self.table, components.direction_rad - psi)
-        return g_beta * self.reflection[..., None]
+        roots = _interp_rows(self.root_table(), components.direction_rad - psi)
+        return roots * self.scale(components)[..., None]
 
     def mean_force(self, components: WaveComponents, heading_rad: ArrayLike) -> NDArray[np.float64]:
         """Mean drift load ``sum_j a_j^2 T_jj`` [N, N, N m], shape (n_trials, 3)."""
-        coef = self.coefficients(components, heading_rad)
-        return np.einsum("nk,nki->ni", components.amplitude_m**2, coef)
+        w2 = self.weights(components, heading_rad) ** 2
+        return (w2[..., 0::2] - w2[..., 1::2]).sum(axis=1)
 
 
 def drift_force(
@@ -279,6 +319,7 @@ def drift_force(
     east_m: ArrayLike,
     heading_rad: ArrayLike,
     t_s: float,
+    weights: NDArray[np.float64] | None = None,
 ) -> NDArray[np.float64]:
     """Slowly varying drift load by Newman's approximation (numpy reference).
 
@@ -292,6 +333,10 @@ def drift_force(
         Craft position [m] and heading [rad].
     t_s : float
         Time [s].
+    weights : ndarray of shape (n_trials, n_components, 6), optional
+        Newman weights from :meth:`DriftModel.weights`, when they are held
+        over a step (evaluated at another heading than ``heading_rad``);
+        computed at ``heading_rad`` when omitted.
 
     Returns
     -------
@@ -306,12 +351,6 @@ def drift_force(
     """
     phase = components.phase_at(north_m, east_m, t_s)[:, 0, :]
     c, s = np.cos(phase), np.sin(phase)
-    coef = model.coefficients(components, heading_rad)  # (N, K, 3)
-    a = components.amplitude_m[..., None]
-    wp = a * np.sqrt(np.maximum(coef, 0.0))
-    wm = a * np.sqrt(np.maximum(-coef, 0.0))
-    zp_c = np.einsum("nk,nki->ni", c, wp)
-    zp_s = np.einsum("nk,nki->ni", s, wp)
-    zm_c = np.einsum("nk,nki->ni", c, wm)
-    zm_s = np.einsum("nk,nki->ni", s, wm)
-    return zp_c**2 + zp_s**2 - zm_c**2 - zm_s**2
+    w = model.weights(components, heading_rad) if weights is None else weights
+    z = np.einsum("nk,nki->ni", c, w) ** 2 + np.einsum("nk,nki->ni", s, w) ** 2
+    return z[:, 0::2] - z[:, 1::2]
