@@ -244,6 +244,10 @@ def test_interpolation_reproduces_grid_values_exactly() -> None:
     w, b = np.meshgrid(table.omega_radps, table.beta_rad, indexing="ij")
     out = table.evaluate_by_dof(w, b)
     assert np.array_equal(out, table.values)
+    # also on uniform grids, where the cell index is computed arithmetically
+    uniform = _hull_rao(np.linspace(0.1, 3.0, 30))
+    wu, bu = np.meshgrid(uniform.omega_radps, uniform.beta_rad, indexing="ij")
+    assert np.array_equal(uniform.evaluate_by_dof(wu, bu), uniform.values)
     # the same directions one turn on
     out2 = table.evaluate_by_dof(w, b + 2 * np.pi)
     np.testing.assert_allclose(out2, table.values, rtol=1e-9, atol=1e-9)  # b + 2 pi rounds

@@ -232,9 +232,15 @@ class RaoTable:
         object.__setattr__(self, "beta_rad", _readonly(b))
         object.__setattr__(self, "values", _readonly(v))
         object.__setattr__(self, "speed_mps", float(speed))
+        flat = np.concatenate([v.real, v.imag]).reshape(2 * len(DOFS), -1)
+        object.__setattr__(self, "_flat", _readonly(flat))
         # Offsets of the direction grid from its first value, computed the
-        # same way as for query directions so that grid points hit exactly.
-        object.__setattr__(self, "_beta_offsets", _readonly(np.mod(b - b[0], _TWO_PI)))
+        # same way as for query directions so that grid points hit exactly,
+        # closed by 2 pi (the first direction one turn on).
+        ext = np.append(np.mod(b - b[0], _TWO_PI), _TWO_PI)
+        object.__setattr__(self, "_beta_ext", _readonly(ext))
+        object.__setattr__(self, "_omega_step", _uniform_step(w))
+        object.__setattr__(self, "_beta_step", _uniform_step(ext))
 
     @property
     def n_omega(self) -> int:
@@ -268,20 +274,29 @@ class RaoTable:
     def evaluate_by_dof(
         self, omega_radps: ArrayLike, beta_rad: ArrayLike
     ) -> NDArray[np.complex128]:
-        """As :meth:`evaluate` but with the DOF axis first: shape (6, ...).
+        """As :meth:`evaluate` but with the DOF axis first: shape (6, ...)."""
+        re, im = self.evaluate_parts(omega_radps, beta_rad)
+        out = np.empty(re.shape, dtype=complex)
+        out.real = re
+        out.imag = im
+        return out
 
-        This is the layout used by the hot path (one contiguous block per DOF).
+    def evaluate_parts(
+        self, omega_radps: ArrayLike, beta_rad: ArrayLike
+    ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+        """Real and imaginary parts of the interpolated RAOs, each of shape (6, ...).
+
+        The layout of the hot path (one contiguous block per DOF, real
+        arithmetic only); same values as :meth:`evaluate`.
         """
         w = np.asarray(omega_radps, dtype=float)
         b = np.asarray(beta_rad, dtype=float)
         og = self.omega_radps
-        nw = og.size
         wc = np.clip(w, og[0], og[-1])
-        i = np.clip(np.searchsorted(og, wc, side="right") - 1, 0, nw - 2)
+        i = _cell_index(og, wc, self._omega_step)  # type: ignore[attr-defined]
         tw = (wc - og[i]) / (og[i + 1] - og[i])
 
-        off: NDArray[np.float64] = self._beta_offsets  # type: ignore[attr-defined]
-        nb = off.size
+        nb = self.beta_rad.size
         d = np.mod(b - self.beta_rad[0], _TWO_PI)
         d = np.where(d >= _TWO_PI, 0.0, d)  # a tiny negative can round up to 2 pi
         if nb == 1:
@@ -289,31 +304,37 @@ class RaoTable:
             j1 = j
             tb = np.zeros(d.shape)
         else:
-            j = np.clip(np.searchsorted(off, d, side="right") - 1, 0, nb - 1)
-            j1 = (j + 1) % nb
-            upper = np.where(j + 1 < nb, off[np.minimum(j + 1, nb - 1)], _TWO_PI)
-            tb = (d - off[j]) / (upper - off[j])
+            # the offsets closed by 2 pi: cell m spans [ext[m], ext[m + 1])
+            ext: NDArray[np.float64] = self._beta_ext  # type: ignore[attr-defined]
+            j = _cell_index(ext, d, self._beta_step)  # type: ignore[attr-defined]
+            j1 = np.where(j + 1 < nb, j + 1, 0)
+            tb = (d - ext[j]) / (ext[j + 1] - ext[j])
 
-        v = self.values
-        lo = (1.0 - tb) * v[:, i, j] + tb * v[:, i, j1]
-        hi = (1.0 - tb) * v[:, i + 1, j] + tb * v[:, i + 1, j1]
-        out = (1.0 - tw) * lo + tw * hi
+        # Gather the four corners from the flattened (12, n_omega * n_beta) table
+        # of real and imaginary parts (np.take beats 2-D fancy indexing here).
+        flat: NDArray[np.float64] = self._flat  # type: ignore[attr-defined]
+        r0 = i * nb
+        r1 = r0 + nb
+        c0, c1 = 1.0 - tw, tw
+        d0, d1 = 1.0 - tb, tb
+        out = (c0 * d0) * np.take(flat, r0 + j, axis=1)
+        out += (c0 * d1) * np.take(flat, r0 + j1, axis=1)
+        out += (c1 * d0) * np.take(flat, r1 + j, axis=1)
+        out += (c1 * d1) * np.take(flat, r1 + j1, axis=1)
 
         # Long-wave limit below the grid, zero above it (see module notes).
         below = w < og[0]
         above = w > og[-1]
         if np.any(below) or np.any(above):
             shape = out.shape[1:]
-            below = np.broadcast_to(below, shape)
-            above = np.broadcast_to(above, shape)
             scale = np.ones(shape)
             if og[0] > 0.0:
                 ratio = np.broadcast_to(w, shape) / og[0]
-                scale = np.where(below, ratio**2, 1.0)
-            rot = list(ROTATIONS)
+                scale = np.where(np.broadcast_to(below, shape), ratio**2, 1.0)
+            rot = [n for part in (0, 6) for n in (part + r for r in ROTATIONS)]
             out[rot] = out[rot] * scale
-            out = np.where(above, 0.0, out)
-        return out
+            out = np.where(np.broadcast_to(above, shape), 0.0, out)
+        return out[:6], out[6:]
 
     def from_z_up_axes(self) -> RaoTable:
         """Convert a table given in x-forward, y-port, z-up axes to wavebench axes.
@@ -358,6 +379,30 @@ class RaoTable:
             beta_rad=np.concatenate([b, mirror_b]),
             values=np.concatenate([self.values, mirror_v], axis=2),
         )
+
+
+def _uniform_step(grid: NDArray[np.float64]) -> float | None:
+    """The spacing of a uniform grid (to 1e-12 relative), else None."""
+    steps = np.diff(grid)
+    step = (grid[-1] - grid[0]) / steps.size
+    return float(step) if np.allclose(steps, step, rtol=1e-12, atol=0.0) else None
+
+
+def _cell_index(
+    grid: NDArray[np.float64], x: NDArray[np.float64], step: float | None
+) -> NDArray[np.intp]:
+    """Index m of the cell [grid[m], grid[m + 1]] holding x (grid[0] <= x <= grid[-1]).
+
+    On a uniform grid the index is computed directly; rounding may put a
+    point lying on a node into the cell below, where its weight is then
+    exactly 1, so grid values are still reproduced exactly.
+    """
+    last = grid.size - 2
+    if step is not None:
+        idx = np.floor((x - grid[0]) * (1.0 / step)).astype(np.intp)
+    else:
+        idx = np.searchsorted(grid, x, side="right") - 1
+    return np.clip(idx, 0, last)
 
 
 def _grid(name: str, x: Any, min_size: int) -> NDArray[np.float64]:
@@ -698,7 +743,7 @@ def write_rao_csv(table: RaoTable, path: str | os.PathLike[str]) -> None:
     phase = np.degrees(np.angle(table.values))
     beta_deg = np.degrees(table.beta_rad)
     with p.open("w", newline="", encoding="utf-8") as fh:
-        fh.write("# wavebench RAO table (axes x fwd, y stbd, z down; phase = lead on the wave)\n")
+        fh.write("# wavebench RAO table (axes x fwd, y stbd, z down; phase: lead on the wave)\n")
         fh.write(f"# speed_mps = {table.speed_mps!r}\n")
         if table.description:
             fh.write(f"# description = {' '.join(table.description.split())}\n")

@@ -155,8 +155,7 @@ def _evaluate(
         # Same operations, in the same order, as WaveComponents.phase_at.
         phase = w * t - k * (xn * cb + xe * sb) + eps
         c, s = np.cos(phase), np.sin(phase)
-        h = rao.evaluate_by_dof(w, beta - p["heading_rad"][:, sl, None])
-        hr, hi = h.real, h.imag
+        hr, hi = rao.evaluate_parts(w, beta - p["heading_rad"][:, sl, None])
         outs[0][:, :, sl] = np.sum(a * (hr * c - hi * s), axis=-1)
         if derivatives:
             vn = p["velocity_north_mps"][:, sl, None]
