@@ -231,32 +231,19 @@ def test_round_trip_arrays():
         np.testing.assert_array_equal(getattr(back, f.name), getattr(t, f.name))
 
 
-# --- known defects, reported (strict xfail flips to a failure once fixed) ----
+# --- defects found in review, fixed ------------------------------------------
 
 
-@pytest.mark.xfail(
-    strict=True, reason="params.check_value rejects Python bool but accepts numpy.bool_"
-)
 def test_numpy_bool_rejected():
     with pytest.raises(ParameterError, match="hs_m"):
         Toy(hs_m=np.True_)
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="params.check_value rejects a str but converts bytes and lists of numeric "
-    "strings to floats",
-)
 @pytest.mark.parametrize("value", [["1.0", "2.0"], b"2", np.array(["3"])])
 def test_strings_in_any_form_rejected(value):
     with pytest.raises(ParameterError, match="hs_m"):
         Toy(hs_m=value)
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="dataclass __eq__ compares array fields with ==, whose truth value is "
-    "ambiguous: equal array-valued Params raise ValueError instead of comparing",
-)
 def test_equal_array_valued_params_compare_equal():
     assert Toy(hs_m=[1.0, 2.0]) == Toy(hs_m=[1.0, 2.0])

@@ -58,12 +58,12 @@ def test_batch_order_and_subsets_do_not_matter(batch):
 @given(
     seed=st.integers(min_value=0, max_value=2**64 - 1),
     trial=st.integers(min_value=0, max_value=10**9),
-    others=st.lists(st.integers(min_value=0, max_value=10**9), max_size=12),
+    others=st.lists(st.integers(min_value=0, max_value=10**9), max_size=12, unique=True),
     position=st.integers(min_value=0, max_value=12),
 )
 def test_property_trial_independent_of_batch(seed, trial, others, position):
     # Property: wherever trial i sits in whatever batch, its draws are the same.
-    idx = list(others)
+    idx = [i for i in others if i != trial]  # a batch holds each trial once
     pos = min(position, len(idx))
     idx.insert(pos, trial)
     in_batch = TrialStreams(seed, idx).draw("current.gm", lambda rng: rng.random(5))
@@ -160,11 +160,12 @@ def test_int_trials_means_range():
     assert TrialStreams(1, 0).n_trials == 0
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="streams.py: fractional trial indices are truncated by int(), so "
-    "trials [0.5, 0.9] both become trial 0 and share one stream",
-)
 def test_fractional_trial_indices_rejected():
     with pytest.raises(ParameterError, match="trials"):
         TrialStreams(1, [0.5, 0.9])
+
+
+def test_duplicate_trial_indices_rejected():
+    # two copies of one trial in a batch would silently share one stream
+    with pytest.raises(ParameterError, match="unique"):
+        TrialStreams(1, [3, 5, 3])

@@ -29,12 +29,9 @@ def describe_value(value: Any) -> str:
         if np.issubdtype(value.dtype, np.number):
             finite = np.isfinite(value)
             if not finite.all():
-                bad = value[~finite].flat[0]
+                bad = value[~finite].flat[0].item()
                 return f"array of shape {value.shape} containing {bad!r}"
-            return (
-                f"array of shape {value.shape} with min {value.min()!r} "
-                f"and max {value.max()!r}"
-            )
+            return f"array of shape {value.shape} with min {value.min().item()!r} and max {value.max().item()!r}"
         return f"array of shape {value.shape} and dtype {value.dtype}"
     if isinstance(value, np.generic):
         value = value.item()

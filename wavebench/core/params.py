@@ -162,19 +162,29 @@ def check_value(name: str, value: Any, bounds: Bounds) -> Any:
     ParameterError
         If the value is not numeric or lies outside the range.
     """
-    if isinstance(value, bool) or value is None or isinstance(value, str):
+    if value is None or isinstance(value, (bool, np.bool_, str, bytes)):
         raise ParameterError(name, value, bounds.describe())
-    try:
-        arr = np.asarray(value, dtype=float)
-    except (TypeError, ValueError):
-        raise ParameterError(name, value, bounds.describe()) from None
+    raw = np.asarray(value)
+    if raw.dtype.kind not in "iuf":
+        raise ParameterError(name, value, bounds.describe())
+    arr = raw.astype(float)
     if bounds.violated(arr):
         raise ParameterError(name, value if arr.ndim else float(arr), bounds.describe())
     if arr.ndim == 0:
-        return float(arr)
-    arr = arr.copy()
+        return int(arr) if bounds.integer else float(arr)
     arr.setflags(write=False)
     return arr
+
+
+def _comparable(value: Any) -> Any:
+    """A hashable, ``==``-safe stand-in for a field value."""
+    if isinstance(value, np.ndarray):
+        return ("ndarray", value.dtype.str, value.shape, value.tobytes())
+    if isinstance(value, (list, tuple)):
+        return tuple(_comparable(v) for v in value)
+    if isinstance(value, dict):
+        return tuple(sorted((k, _comparable(v)) for k, v in value.items()))
+    return value
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -186,6 +196,27 @@ class Params:
     a subclass may add cross-field checks in ``_check`` (raise
     :class:`ParameterError`).
     """
+
+    def __init_subclass__(cls, **kwargs: Any) -> None:
+        # Array-valued fields break the dataclass-generated __eq__ (the truth
+        # value of an array is ambiguous) and __hash__; put array-aware ones in
+        # every subclass's own namespace, where @dataclass leaves them alone.
+        super().__init_subclass__(**kwargs)
+        if "__eq__" not in cls.__dict__:
+            cls.__eq__ = Params.__eq__  # type: ignore[method-assign]
+        if "__hash__" not in cls.__dict__ or cls.__dict__["__hash__"] is None:
+            cls.__hash__ = Params.__hash__  # type: ignore[method-assign]
+
+    def _key(self) -> tuple[Any, ...]:
+        return tuple(_comparable(getattr(self, f.name)) for f in dataclasses.fields(self))
+
+    def __eq__(self, other: object) -> bool:
+        if other.__class__ is not self.__class__:
+            return NotImplemented
+        return self._key() == other._key()  # type: ignore[attr-defined]
+
+    def __hash__(self) -> int:
+        return hash((self.__class__.__qualname__, self._key()))
 
     def __post_init__(self) -> None:
         for f in dataclasses.fields(self):
@@ -239,12 +270,18 @@ def params_from_dict(cls: type[P], data: Mapping[str, Any], path: str = "") -> P
             raise ParameterError(
                 f"{prefix}{key}", data[key], f"unknown key; allowed keys are {sorted(names)}", hint
             )
+    required = [
+        f.name
+        for f in dataclasses.fields(cls)
+        if f.init and f.default is _MISSING and f.default_factory is _MISSING
+    ]
+    missing = [name for name in required if name not in data]
+    if missing:
+        raise ParameterError(f"{prefix}{missing[0]}", None, "is required but missing")
     try:
         return cls(**dict(data))
     except ParameterError as exc:
         raise (exc.with_prefix(path) if path else exc) from None
-    except TypeError as exc:  # a missing required field
-        raise ParameterError(path or cls.__name__, dict(data), str(exc)) from None
 
 
 def params_to_dict(params: Params) -> dict[str, Any]:

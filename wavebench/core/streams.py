@@ -45,7 +45,7 @@ def purpose_key(purpose: str) -> int:
     int
         Key in [0, 2**32).
     """
-    if not purpose:
+    if not isinstance(purpose, str) or not purpose:
         raise ParameterError("purpose", purpose, "must be a non-empty string")
     return zlib.crc32(purpose.encode("utf-8"))
 
@@ -78,11 +78,16 @@ class TrialStreams:
     def __init__(self, seed: int, trials: Sequence[int] | np.ndarray | int) -> None:
         if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
             raise ParameterError("seed", seed, "must be a non-negative integer")
-        if isinstance(trials, (int, np.integer)):
+        if isinstance(trials, (int, np.integer)) and not isinstance(trials, (bool, np.bool_)):
             trials = range(int(trials))
-        idx = tuple(int(i) for i in trials)
-        if any(i < 0 for i in idx):
-            raise ParameterError("trials", idx, "trial indices must be non-negative integers")
+        items = list(np.asarray(trials).ravel()) if isinstance(trials, np.ndarray) else list(trials)
+        for i in items:
+            if isinstance(i, (bool, np.bool_)) or not isinstance(i, (int, np.integer)) or i < 0:
+                raise ParameterError("trials", i, "trial indices must be non-negative integers")
+        idx = tuple(int(i) for i in items)
+        if len(set(idx)) != len(idx):
+            dup = next(i for i in idx if idx.count(i) > 1)
+            raise ParameterError("trials", dup, "trial indices must be unique within a batch")
         object.__setattr__(self, "seed", int(seed))
         object.__setattr__(self, "trials", idx)
 
@@ -120,7 +125,9 @@ class TrialStreams:
         """
         blocks = [np.asarray(sampler(rng)) for rng in self.generators(purpose)]
         if not blocks:
-            return np.empty((0,))
+            # the shape of one block, from a throwaway generator, for an empty batch
+            shape = np.shape(sampler(np.random.Generator(np.random.PCG64(0))))
+            return np.empty((0, *shape))
         return np.stack(blocks)
 
     def subset(self, positions: Sequence[int] | slice) -> "TrialStreams":
