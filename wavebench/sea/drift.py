@@ -62,6 +62,7 @@ Waterways and Harbors Div., ASCE 86(WW1).
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -277,6 +278,10 @@ class DriftModel:
         if depth.ndim == 1:
             depth = depth[:, None]
         return cls(table=table, reflection=reflection_squared(components.wavenumber_radpm, draft_m, depth))
+
+    def subset(self, positions: Any) -> "DriftModel":
+        """Drift model of a sub-batch, selected by position along the trial axis."""
+        return DriftModel(table=self.table, reflection=self.reflection[positions])
 
     def root_table(self) -> NDArray[np.float64]:
         """See :func:`root_table`; shape (n_headings + 1, 6)."""
