@@ -91,7 +91,7 @@ def per_trial_loop(plant: Plant, pilot: HoldPilot, current: np.ndarray, i: int, 
 
     midpoint = plant.drift_sampling == "midpoint"
 
-    def rhs(x: float, y: float, psi: float, u: float, v: float, r: float, t: float, tx: float, tn: float, w, held):  # noqa: ANN001, ANN202
+    def rhs(x: float, y: float, psi: float, u: float, v: float, r: float, t: float, tx: float, tn: float, w, held):
         fx, fy, fn = held if midpoint else drift(x, y, t, w)
         cp, sp = math.cos(psi), math.sin(psi)
         uc, vc = cp * vcn + sp * vce, -sp * vcn + cp * vce
@@ -131,7 +131,7 @@ def per_trial_loop(plant: Plant, pilot: HoldPilot, current: np.ndarray, i: int, 
     return np.array([x, y, psi, u, v, r])
 
 
-def timed(fn, repeats: int) -> float:  # noqa: ANN001
+def timed(fn, repeats: int) -> float:
     """Median wall time of ``repeats`` calls after one warm-up call [s]."""
     fn()
     times = []

@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from scipy import signal
 
-from wavebench.core.constants import G, RHO_SEAWATER
+from wavebench.core.constants import RHO_SEAWATER, G
 from wavebench.core.errors import ParameterError
 from wavebench.core.streams import TrialStreams
 from wavebench.sea.drift import DriftModel, box_waterline, drift_force, heading_table, reflection_squared

@@ -19,7 +19,7 @@ from wavebench.sea.spreading import DirectionalSpreading
 HULL = demo_craft("Tholepin").hull
 
 
-def _plant(n: int, seed: int = 21, trials: list[int] | None = None, hull=HULL, sampling: str = "midpoint") -> Plant:  # noqa: ANN001
+def _plant(n: int, seed: int = 21, trials: list[int] | None = None, hull=HULL, sampling: str = "midpoint") -> Plant:
     idx = list(range(n)) if trials is None else trials
     sea = SeaSpectrum(kind="jonswap", hs_m=1.0, tp_s=4.5)
     spread = DirectionalSpreading(kind="cos2s", exponent=6.0, mean_dir_deg=60.0)

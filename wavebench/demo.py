@@ -219,7 +219,7 @@ def _loop_section(sc: DemoScenario, craft: CraftParams, comps: WaveComponents,
     cur_dir = np.radians(sc.current_set_deg)
     current = np.tile([sc.current_mps * np.cos(cur_dir), sc.current_mps * np.sin(cur_dir)], (n, 1))
     dt, chunk = 0.1, 100
-    n_chunks = int(round(sc.duration_s / (dt * chunk)))
+    n_chunks = round(sc.duration_s / (dt * chunk))
     eta = np.zeros((n, 3))
     eta[:, 2] = line
     nu = np.zeros((n, 3))

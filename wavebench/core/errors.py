@@ -68,7 +68,7 @@ class ParameterError(ValueError):
             message += f" ({hint})"
         super().__init__(message)
 
-    def with_prefix(self, prefix: str) -> "ParameterError":
+    def with_prefix(self, prefix: str) -> ParameterError:
         """Return the same error with ``prefix.`` put before the field name."""
         return ParameterError(f"{prefix}.{self.field}", self.value, self.allowed, self.hint)
 

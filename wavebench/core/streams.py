@@ -130,7 +130,7 @@ class TrialStreams:
             return np.empty((0, *shape))
         return np.stack(blocks)
 
-    def subset(self, positions: Sequence[int] | slice) -> "TrialStreams":
+    def subset(self, positions: Sequence[int] | slice) -> TrialStreams:
         """Streams of a sub-batch, selected by position within this batch."""
         idx = np.asarray(self.trials)[positions]
         return TrialStreams(self.seed, np.atleast_1d(idx).tolist())

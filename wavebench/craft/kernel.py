@@ -143,7 +143,7 @@ class Plant:
         drift: DriftModel | None = None,
         drift_heading_tol_rad: float = float(np.radians(0.25)),
         drift_sampling: str = "midpoint",
-    ) -> "Plant":
+    ) -> Plant:
         """Check shapes and precompute the hull coefficients."""
         if (components is None) != (drift is None):
             raise ParameterError("drift", drift, "give both components and drift, or neither")
@@ -264,7 +264,7 @@ def advance(
     return eta_a, nu_a, psi_w
 
 
-def _prepare(plant, eta, nu, step0, dt_s, n_steps, tau_ext, current_ned, drift_heading_rad):  # noqa: ANN001, ANN202
+def _prepare(plant, eta, nu, step0, dt_s, n_steps, tau_ext, current_ned, drift_heading_rad):
     n = plant.n_trials
     eta_a = _as_state(eta, n, 3, "eta").copy()
     nu_a = _as_state(nu, n, 3, "nu").copy()
@@ -372,7 +372,7 @@ def _weights(w: np.ndarray, beta: np.ndarray, scale: np.ndarray, roots: np.ndarr
 
 
 @numba.njit(parallel=True, cache=True, fastmath={"reassoc", "contract"})
-def _advance_kernel(eta, nu, psi_w, tau, cur, hull, waves, roots, pil, use_pilot, step0, dt, n_steps, tol, midpoint):  # noqa: ANN001
+def _advance_kernel(eta, nu, psi_w, tau, cur, hull, waves, roots, pil, use_pilot, step0, dt, n_steps, tol, midpoint):
     n = eta.shape[0]
     n_comp = waves.shape[2]
     for i in numba.prange(n):
@@ -470,7 +470,7 @@ def advance_reference(
     comps, model = plant.components, plant.drift
     waves = comps is not None and model is not None
 
-    def rhs(e, v, t, tau, w):  # noqa: ANN001, ANN202
+    def rhs(e, v, t, tau, w):
         load = tau
         if waves:
             load = tau + drift_force(model, comps, e[:, 0], e[:, 1], e[:, 2], t, weights=w)

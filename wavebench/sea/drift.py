@@ -67,7 +67,7 @@ from typing import Any
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from ..core.constants import G, RHO_SEAWATER
+from ..core.constants import RHO_SEAWATER, G
 from ..core.errors import ParameterError
 from .realisation import WaveComponents
 
@@ -271,7 +271,7 @@ class DriftModel:
         bow_fraction: float = 0.2,
         rho: float = RHO_SEAWATER,
         g: float = G,
-    ) -> "DriftModel":
+    ) -> DriftModel:
         """Drift model of a ship-like waterline (see :func:`box_waterline`)."""
         table = heading_table(box_waterline(length_m, beam_m, bow_fraction), rho=rho, g=g)
         depth = np.asarray(depth_m, dtype=float)
@@ -279,7 +279,7 @@ class DriftModel:
             depth = depth[:, None]
         return cls(table=table, reflection=reflection_squared(components.wavenumber_radpm, draft_m, depth))
 
-    def subset(self, positions: Any) -> "DriftModel":
+    def subset(self, positions: Any) -> DriftModel:
         """Drift model of a sub-batch, selected by position along the trial axis."""
         return DriftModel(table=self.table, reflection=self.reflection[positions])
 
