@@ -17,10 +17,24 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike
 
-__all__ = ["PALETTE", "Series", "line_chart", "nice_ticks"]
+__all__ = ["PALETTE", "Series", "Svg", "line_chart", "nice_ticks"]
 
 #: Series colours, in order of use.
 PALETTE = ("#1b6f8a", "#c8553d", "#6a994e", "#8d6a9f", "#d4a017", "#4a4a4a")
+
+
+class Svg(str):
+    """SVG text that notebooks display as a picture (``_repr_svg_``).
+
+    It is a plain ``str`` everywhere else, so it can be written to files or
+    embedded in HTML as is.
+    """
+
+    def _repr_svg_(self) -> str:
+        return str(self)
+
+    def __repr__(self) -> str:
+        return f"<Svg chart, {len(self)} characters>"
 
 
 @dataclass(frozen=True)
@@ -94,7 +108,7 @@ def line_chart(
     equal_axes: bool = False,
     xlim: tuple[float, float] | None = None,
     ylim: tuple[float, float] | None = None,
-) -> str:
+) -> Svg:
     """Render line series as an SVG document fragment.
 
     Parameters
@@ -112,8 +126,8 @@ def line_chart(
 
     Returns
     -------
-    str
-        An ``<svg>`` element.
+    Svg
+        An ``<svg>`` element (a ``str`` that notebooks display as a picture).
     """
     left, right, top, bottom = 62, 16, 30 if title else 12, 44
     pw, ph = width - left - right, height - top - bottom
@@ -191,4 +205,4 @@ def line_chart(
                    f'stroke="{color}" stroke-width="2"{dash}/>')  # fmt: skip
         out.append(f'<text x="{left + pw - 125}" y="{Y}">{html.escape(label)}</text>')
     out.append("</svg>")
-    return "\n".join(out)
+    return Svg("\n".join(out))
