@@ -176,26 +176,55 @@ def test_demo_craft_reported_against_imo_criteria(name: str) -> None:
     assert rep.turning.transfer_m[0] > 0.0 and rep.turning.psi_rad[0, -1] > math.pi
 
 
-def test_trial_alone_equals_trial_in_batch() -> None:
-    craft = demo_craft("Tholepin")
-    n = 3
-    hull = dataclasses.replace(
-        craft.hull,
-        n_r=craft.hull.n_r * np.array([0.8, 1.0, 1.3]),
-        mass_kg=craft.hull.mass_kg * np.array([1.1, 0.95, 1.0]),
-    )
-    prop = dataclasses.replace(craft.propulsion, rudder_area_m2=np.full(n, 0.1))
-    batch_craft = dataclasses.replace(craft, hull=hull, propulsion=prop)
-    batch = turning_circle(batch_craft, dt=0.1, approach_speed_mps=3.0)
-    for i in range(n):
-        alone_craft = dataclasses.replace(
-            craft,
-            hull=dataclasses.replace(hull, n_r=float(hull.n_r[i]), mass_kg=float(hull.mass_kg[i])),
-            propulsion=dataclasses.replace(prop, rudder_area_m2=0.1),
-        )
-        alone = turning_circle(alone_craft, dt=0.1, approach_speed_mps=3.0)
-        for field in ("advance_m", "transfer_m", "tactical_diameter_m"):
-            assert getattr(alone, field)[0] == getattr(batch, field)[i]
+def _assert_result_slice_equal(alone: object, batch: object, i: int) -> None:
+    """Every field of trial ``i`` of ``batch`` equals trial 0 of ``alone``, bit for bit."""
+    for f in dataclasses.fields(alone):
+        a, b = getattr(alone, f.name), getattr(batch, f.name)
+        if f.name == "t":
+            # the batch may run longer (until its slowest trial is done): common prefix
+            assert np.array_equal(a, b[: a.size]), f.name
+        elif isinstance(a, np.ndarray) and a.ndim == 2:
+            assert np.array_equal(a[0], b[i, : a.shape[1]], equal_nan=True), f.name
+        elif isinstance(a, np.ndarray):
+            assert a.shape == (1,) and b.ndim == 1, f.name
+            # NaN (never reached) must match NaN; everything else bit for bit
+            assert np.array_equal(a[0], b[i], equal_nan=True), (f.name, a[0], b[i])
+        else:
+            assert a == b, f.name
+
+
+@pytest.mark.parametrize("name", DEMO_CRAFT_NAMES)
+def test_trial_alone_equals_trial_in_batch(name: str) -> None:
+    # Trials that differ (yaw inertia 1x and 3x, so they turn at different rates and
+    # finish their manoeuvres at different steps): every result field of trial i in
+    # the batch must equal the same trial run alone, steady values and overshoots included.
+    craft = demo_craft(name)
+    izz = craft.hull.izz_kgm2 * np.array([1.0, 3.0])
+    batch_craft = dataclasses.replace(craft, hull=dataclasses.replace(craft.hull, izz_kgm2=izz))
+    speed = 0.8 * float(top_speed(craft)[0])
+    kw = dict(dt=0.1, approach_speed_mps=speed)
+    runs = [
+        lambda c: turning_circle(c, **kw),
+        lambda c: zigzag(c, rudder_deg=10.0, **kw),
+        lambda c: zigzag(c, rudder_deg=20.0, **kw),
+    ]
+    for run in runs:
+        batch = run(batch_craft)
+        finished_at = []
+        for i in range(izz.size):
+            alone_craft = dataclasses.replace(
+                craft, hull=dataclasses.replace(craft.hull, izz_kgm2=float(izz[i]))
+            )
+            alone = run(alone_craft)
+            _assert_result_slice_equal(alone, batch, i)
+            finished_at.append(alone.t.size)
+        # the check has teeth: the trials end at different steps, so at least one trial's
+        # values are read before the batch run ends
+        assert finished_at[0] != finished_at[1]
+    # the steady values of the turning circle are finite and differ between the trials
+    tc = turning_circle(batch_craft, **kw)
+    assert np.all(np.isfinite(tc.steady_diameter_m))
+    assert tc.steady_diameter_m[0] != tc.steady_diameter_m[1]
 
 
 def test_bad_manoeuvre_input() -> None:
@@ -211,3 +240,50 @@ def test_bad_manoeuvre_input() -> None:
     with pytest.raises(ParameterError) as info:
         nomoto(gain_per_s=float("nan"))
     assert info.value.field == "gain_per_s"
+
+
+@pytest.mark.parametrize("run", [turning_circle, zigzag])
+@pytest.mark.parametrize(
+    ("craft_name", "limit"),
+    [("nomoto", 35.0), ("Dulse", 35.0), ("Tholepin", 35.0)],
+)
+def test_rudder_angle_validated(run, craft_name: str, limit: float) -> None:
+    # Dulse has differential thrust: 35 deg maps to full differential thrust (our
+    # convention); Tholepin and the Nomoto model have rudder_max_deg = 35.
+    craft = nomoto() if craft_name == "nomoto" else demo_craft(craft_name)
+    for bad in (float("nan"), float("inf"), 0.0, -10.0, 200.0, limit + 0.5, [10.0, 20.0]):
+        with pytest.raises(ParameterError) as info:
+            run(craft, rudder_deg=bad, max_duration_s=1.0)
+        assert info.value.field == "rudder_deg"
+    run(craft, rudder_deg=limit, max_duration_s=1.0)  # the limit itself is allowed
+
+
+def test_rudder_limit_of_the_craft_is_used() -> None:
+    # a Nomoto model with a 25 deg rudder limit: 30 deg is refused, 25 deg accepted
+    small = nomoto(rudder_max_deg=25.0)
+    with pytest.raises(ParameterError, match="rudder_deg"):
+        turning_circle(small, rudder_deg=30.0, max_duration_s=1.0)
+    turning_circle(small, rudder_deg=25.0, max_duration_s=1.0)
+    # the report then turns with the craft's own limit instead of 35 deg
+    rep = manoeuvring_report(small, dt=0.1)
+    assert rep.turning.rudder_deg == 25.0
+    # per-trial limits below 35 deg that differ cannot share one hard-over angle
+    mixed = nomoto(rudder_max_deg=np.array([25.0, 30.0]))
+    with pytest.raises(ParameterError) as info:
+        manoeuvring_report(mixed, dt=0.1)
+    assert info.value.field == "rudder_max_deg"
+    # a per-trial limit: rudder_deg must be within every trial's limit
+    with pytest.raises(ParameterError, match="rudder_deg"):
+        zigzag(mixed, rudder_deg=28.0, max_duration_s=1.0)
+
+
+def test_heading_changes_validated() -> None:
+    craft = nomoto()
+    for bad in (float("nan"), 0.0, -10.0, 180.0, 400.0):
+        with pytest.raises(ParameterError) as info:
+            zigzag(craft, rudder_deg=10.0, heading_deg=bad, max_duration_s=1.0)
+        assert info.value.field == "heading_deg"
+    for bad in (float("nan"), float("inf"), 90.0, -540.0):
+        with pytest.raises(ParameterError) as info:
+            turning_circle(craft, end_heading_change_deg=bad, max_duration_s=1.0)
+        assert info.value.field == "end_heading_change_deg"

@@ -411,6 +411,61 @@ def _check_run_args(dt: float, max_duration_s: float, side: int) -> None:
         raise ParameterError("side", side, "must be +1 (starboard) or -1 (port)")
 
 
+def _rudder_limit_deg(craft: CraftParams | NomotoParams) -> FloatArray:
+    """Largest rudder angle ``rudder_deg`` may ask for, per trial [deg].
+
+    The rudder limit of a Nomoto model or a propeller-rudder craft; for a
+    differential-thrust craft :data:`HARD_OVER_DEG` (full differential thrust).
+    """
+    if isinstance(craft, NomotoParams):
+        lim: Any = craft.rudder_max_deg
+    elif isinstance(craft, CraftParams) and isinstance(craft.propulsion, PropRudderParams):
+        lim = craft.propulsion.rudder_max_deg
+    else:
+        lim = HARD_OVER_DEG
+    return np.atleast_1d(np.asarray(lim, dtype=float))
+
+
+def _check_rudder(craft: CraftParams | NomotoParams, rudder_deg: float) -> None:
+    """``0 < rudder_deg <= `` the rudder limit of every trial (see :func:`_rudder_limit_deg`)."""
+    if not isinstance(craft, (CraftParams, NomotoParams)):
+        return  # _setup names the bad craft
+    lim = _rudder_limit_deg(craft)
+    lim_min = float(np.min(lim))
+    what = (
+        "the craft's rudder_max_deg"
+        if isinstance(craft, NomotoParams) or isinstance(craft.propulsion, PropRudderParams)
+        else "the hard-over angle that maps to full differential thrust"
+    )
+    allowed = f"must be a finite number with 0 < rudder_deg <= {lim_min:g} ({what})"
+    if np.ndim(rudder_deg) != 0:
+        raise ParameterError("rudder_deg", rudder_deg, allowed)
+    try:
+        value = float(rudder_deg)
+    except (TypeError, ValueError):
+        raise ParameterError("rudder_deg", rudder_deg, allowed) from None
+    if not (math.isfinite(value) and 0.0 < value <= lim_min):
+        raise ParameterError("rudder_deg", rudder_deg, allowed)
+
+
+def _check_heading_change(name: str, value: float, lo: float, hi: float) -> None:
+    """A heading change [deg] in ``(0, hi)`` with ``lo <= value`` (``lo`` > 0)."""
+    parts = []
+    if lo > 0.0:
+        parts.append(f"{lo:g} <= {name}")
+    else:
+        parts.append(f"0 < {name}")
+    if math.isfinite(hi):
+        parts.append(f"{name} < {hi:g}")
+    allowed = "must be a finite number with " + " and ".join(parts)
+    try:
+        x = float(value)
+    except (TypeError, ValueError):
+        raise ParameterError(name, value, allowed) from None
+    if not (math.isfinite(x) and x > 0.0 and x >= lo and x < hi):
+        raise ParameterError(name, value, allowed)
+
+
 def _first_crossing(
     t: FloatArray, h: FloatArray, level: float, *others: FloatArray
 ) -> tuple[FloatArray, ...]:
@@ -455,9 +510,12 @@ class TurningCircleResult:
     advance_m, transfer_m, tactical_diameter_m : ndarray
         NaN where the heading change was not reached.
     steady_diameter_m : ndarray
-        ``2 U / |r|`` at the end of the run.
+        ``2 U / |r|`` from the steady speed and yaw rate.
     steady_speed_mps, steady_yaw_rate_rad_s : ndarray
-        Speed over ground and yaw rate at the end of the run.
+        Speed over ground and yaw rate of each trial at the end of the first
+        step where that trial has turned ``end_heading_change_deg`` (at the
+        end of the run for a trial that never does), so a trial's values do
+        not depend on the other trials of the batch.
     t : ndarray of shape (n_records,)
     north_m, east_m, psi_rad : ndarray of shape (n_trials, n_records)
         Recorded track (psi unwrapped).
@@ -524,7 +582,9 @@ def turning_circle(
     ----------
     craft : CraftParams or NomotoParams
     rudder_deg : float, optional
-        Rudder angle ordered [deg] (hard over: 35).
+        Rudder angle ordered [deg] (hard over: 35); ``0 < rudder_deg <=`` the
+        craft's ``rudder_max_deg`` (every trial's), or <= 35 (full
+        differential thrust) for a differential-thrust craft.
     side : {1, -1}, optional
         Turn to starboard (+1) or port (-1).
     approach_speed_mps : float or ndarray of shape (n_trials,), optional
@@ -535,8 +595,9 @@ def turning_circle(
     max_duration_s : float, optional
         Upper bound on the simulated time [s].
     end_heading_change_deg : float, optional
-        The run ends when every trial has turned this far (or at
-        ``max_duration_s``); the steady values are read at the end.
+        Heading change [deg], >= 180 (so the tactical diameter is reached).
+        Each trial's steady values are read at the step where it has turned
+        this far; the run ends when every trial has (or at ``max_duration_s``).
     rho : float, optional
         Water density [kg/m^3].
 
@@ -545,17 +606,35 @@ def turning_circle(
     TurningCircleResult
     """
     _check_run_args(dt, max_duration_s, side)
+    _check_heading_change("end_heading_change_deg", end_heading_change_deg, 180.0, math.inf)
+    _check_rudder(craft, rudder_deg)
     plant, speed, length, name = _setup(craft, approach_speed_mps, rho)
-    delta = np.full(plant.n, side * math.radians(rudder_deg))
+    n = plant.n
+    delta = np.full(n, side * math.radians(rudder_deg))
     end = math.radians(end_heading_change_deg)
     n_steps = math.ceil(max_duration_s / dt)
-    t, north, east, psi = _run(
-        plant, n_steps, dt, lambda p: delta, lambda p: bool(np.all(side * p >= end))
-    )
+    # Steady values are frozen per trial at the first step where that trial has
+    # turned ``end``, so trial i's result does not depend on the other trials.
+    reached = np.zeros(n, dtype=bool)
+    u_ss = np.full(n, np.nan)
+    r_ss = np.full(n, np.nan)
+
+    def done(p: FloatArray) -> bool:
+        newly = ~reached & (side * p >= end)
+        if newly.any():
+            u_now, r_now = plant.speed_and_rate()
+            u_ss[newly] = u_now[newly]
+            r_ss[newly] = r_now[newly]
+            reached[newly] = True
+        return bool(reached.all())
+
+    t, north, east, psi = _run(plant, n_steps, dt, lambda p: delta, done)
     h = side * psi
     _, adv, tr = _first_crossing(t, h, math.pi / 2, north, side * east)
     _, _, tac = _first_crossing(t, h, math.pi, north, side * east)
-    u, r = plant.speed_and_rate()
+    u_end, r_end = plant.speed_and_rate()
+    u = np.where(reached, u_ss, u_end)  # trials that never turned ``end``: end of the run
+    r = np.where(reached, r_ss, r_end)
     with np.errstate(divide="ignore"):
         d_ss = 2.0 * u / np.abs(r)
     return TurningCircleResult(
@@ -568,8 +647,8 @@ def turning_circle(
         transfer_m=tr,
         tactical_diameter_m=tac,
         steady_diameter_m=d_ss,
-        steady_speed_mps=np.asarray(u, dtype=float).copy(),
-        steady_yaw_rate_rad_s=np.asarray(r, dtype=float).copy(),
+        steady_speed_mps=np.asarray(u, dtype=float),
+        steady_yaw_rate_rad_s=np.asarray(r, dtype=float),
         t=t,
         north_m=north,
         east_m=east,
@@ -638,10 +717,10 @@ def zigzag(
     ----------
     craft : CraftParams or NomotoParams
     rudder_deg : float, optional
-        Rudder angle [deg].
+        Rudder angle [deg]; limits as for :func:`turning_circle`.
     heading_deg : float, optional
-        Heading change that triggers each counter-rudder [deg]; default
-        ``rudder_deg``.
+        Heading change that triggers each counter-rudder [deg],
+        ``0 < heading_deg < 180``; default ``rudder_deg``.
     side : {1, -1}, optional
         Side of the first rudder order.
     approach_speed_mps, dt, max_duration_s, rho
@@ -662,6 +741,9 @@ def zigzag(
     checked at the end of each step, so an execute is late by at most ``dt``.
     """
     _check_run_args(dt, max_duration_s, side)
+    _check_rudder(craft, rudder_deg)
+    if heading_deg is not None:
+        _check_heading_change("heading_deg", heading_deg, 0.0, 180.0)
     psi_s = math.radians(rudder_deg if heading_deg is None else heading_deg)
     plant, speed, length, name = _setup(craft, approach_speed_mps, rho)
     n = plant.n
@@ -794,6 +876,23 @@ class ManoeuvringReport:
         return "\n".join(lines)
 
 
+def _hard_over_deg(craft: CraftParams | NomotoParams) -> float:
+    """35 deg, or the craft's rudder limit where that is smaller (one value for the batch)."""
+    if not isinstance(craft, (CraftParams, NomotoParams)):
+        return HARD_OVER_DEG  # turning_circle names the bad craft
+    lim = _rudder_limit_deg(craft)
+    if np.all(lim >= HARD_OVER_DEG):
+        return HARD_OVER_DEG
+    if np.all(lim == lim[0]):
+        return float(lim[0])
+    raise ParameterError(
+        "rudder_max_deg",
+        lim,
+        f"must be >= {HARD_OVER_DEG:g} deg for every trial, or the same for all trials, "
+        "for a manoeuvring report (one hard-over angle serves the batch)",
+    )
+
+
 def manoeuvring_report(
     craft: CraftParams | NomotoParams,
     *,
@@ -803,17 +902,26 @@ def manoeuvring_report(
     max_duration_s: float = 600.0,
     rho: float = RHO_SEAWATER,
 ) -> ManoeuvringReport:
-    """Run a 35 deg turning circle, a 10/10 and a 20/20 zig-zag; attach the IMO criteria.
+    """Run a hard-over turning circle, a 10/10 and a 20/20 zig-zag; attach the IMO criteria.
 
     Parameters
     ----------
     craft : CraftParams or NomotoParams
+        Its rudder limit must be at least 20 deg (for the 20/20 zig-zag).
     approach_speed_mps, side, dt, max_duration_s, rho
         As for :func:`turning_circle`.
 
     Returns
     -------
     ManoeuvringReport
+
+    Notes
+    -----
+    The turning circle uses 35 deg of rudder, or the craft's ``rudder_max_deg``
+    where that is smaller (MSC.137(76) asks for 35 deg or the largest rudder
+    angle permissible at the test speed; wording from memory). Per-trial
+    rudder limits below 35 deg must be equal, since one rudder angle serves
+    the whole batch.
     """
     kw: dict[str, Any] = dict(
         approach_speed_mps=approach_speed_mps,
@@ -822,7 +930,7 @@ def manoeuvring_report(
         max_duration_s=max_duration_s,
         rho=rho,
     )
-    tc = turning_circle(craft, rudder_deg=35.0, **kw)
+    tc = turning_circle(craft, rudder_deg=_hard_over_deg(craft), **kw)
     z10 = zigzag(craft, rudder_deg=10.0, **kw)
     z20 = zigzag(craft, rudder_deg=20.0, **kw)
     crit = imo_criteria(tc.length_m, tc.approach_speed_mps)
