@@ -146,3 +146,39 @@ def test_bad_input_names_the_field() -> None:
         realise_sea(spec, LONG, TrialStreams(0, 2), amplitudes="random")
     with pytest.raises(ParameterError, match="depth_m"):
         realise_sea(spec, LONG, TrialStreams(0, 2), depth_m=-5.0)
+
+
+@pytest.mark.parametrize(
+    ("spec_kw", "spread_kw", "field"),
+    [
+        ({"hs_m": np.array([1.0, 2.0])}, {}, "spectrum.hs_m"),
+        ({"tp_s": np.array([6.0, 7.0, 8.0, 9.0])}, {}, "spectrum.tp_s"),
+        ({"gamma": np.array([2.0, 3.0])}, {}, "spectrum.gamma"),
+        ({}, {"exponent": np.array([4.0, 6.0])}, "spreading.exponent"),
+        ({}, {"mean_dir_deg": np.zeros(5)}, "spreading.mean_dir_deg"),
+        # length 1 is not a per-trial array for 3 trials either
+        ({"hs_m": np.array([1.0])}, {}, "spectrum.hs_m"),
+    ],
+)
+def test_per_trial_length_must_match_the_streams(spec_kw, spread_kw, field) -> None:
+    # ARCHITECTURE: per-trial parameters have shape (n_trials,); a mismatch with the
+    # streams is a ParameterError naming the field and the expected length (common
+    # practice, no source), not a numpy broadcasting error.
+    base = {"kind": "jonswap", "hs_m": 1.0, "tp_s": 4.0, **spec_kw}
+    spec = SeaSpectrum(**base)
+    spread = DirectionalSpreading(kind="cos2s", **spread_kw)
+    with pytest.raises(ParameterError) as err:
+        realise_sea(spec, spread, TrialStreams(0, 3), n_components=5)
+    assert err.value.field == field
+    assert "(3,)" in str(err.value)
+
+
+def test_gamma_above_seven_cannot_reach_a_realisation() -> None:
+    # A_gamma = 1 - 0.287 ln(gamma) (DNV-RP-C205 (2010) sec. 3.5.5) is negative above
+    # gamma ~ 32.6, which used to give NaN amplitudes here; such a spectrum is now refused
+    # on construction, and the largest accepted gamma gives finite amplitudes.
+    with pytest.raises(ParameterError, match="gamma"):
+        SeaSpectrum(kind="jonswap", hs_m=1.0, tp_s=4.0, gamma=40.0)
+    spec = SeaSpectrum(kind="jonswap", hs_m=1.0, tp_s=4.0, gamma=7.0)
+    comps = realise_sea(spec, LONG, TrialStreams(0, 3), n_components=20)
+    assert np.all(np.isfinite(comps.amplitude_m)) and np.all(comps.amplitude_m >= 0.0)

@@ -344,6 +344,61 @@ def test_sea_spectrum_rejects_bad_parameters(kwargs, field):
         SeaSpectrum(**kwargs)
 
 
+@pytest.mark.parametrize("gamma", [7.0 + 1e-9, 10.0, 33.0, 40.0, float("inf")])
+def test_gamma_above_seven_is_refused(gamma):
+    # DNV-RP-C205 (2010) sec. 3.5.5 gives its JONSWAP period-ratio fits for 1 <= gamma < 7
+    # (range from memory, not re-checked); A_gamma = 1 - 0.287 ln(gamma) is < 0 above
+    # gamma = exp(1/0.287) ~ 32.6, where the spectrum (and realised amplitudes) would be
+    # negative / NaN. Both entry points refuse gamma > 7 naming 'gamma'.
+    w = np.linspace(0.1, 3.0, 10)
+    with pytest.raises(ParameterError) as err:
+        SeaSpectrum(kind="jonswap", hs_m=4.0, tp_s=8.0, gamma=gamma)
+    assert err.value.field == "gamma"
+    with pytest.raises(ParameterError) as err:
+        SeaSpectrum(kind="jonswap", hs_m=np.array([4.0, 4.0]), tp_s=8.0, gamma=np.array([3.3, gamma]))
+    assert err.value.field == "gamma"
+    with pytest.raises(ParameterError) as err:
+        jonswap(w, 4.0, 8.0, gamma=gamma)
+    assert err.value.field == "gamma"
+
+
+def test_gamma_bound_is_where_the_a_gamma_normalisation_stops_holding():
+    # Why 7: the exact normalisation (scipy.integrate.quad, exact_jonswap_normalisation)
+    # against DNV-RP-C205's A_gamma = 1 - 0.287 ln(gamma). At the bound gamma = 7 the
+    # Hm0 error sqrt(A_gamma / A_exact) - 1 is within 1 %; at gamma = 10 it exceeds 3 %
+    # (so gamma above 7 would silently give the wrong Hs), and A_gamma < 0 at 33.
+    def hm0_error(gamma: float) -> float:
+        return math.sqrt((1.0 - 0.287 * math.log(gamma)) / exact_jonswap_normalisation(gamma)) - 1.0
+
+    assert abs(hm0_error(7.0)) < 0.01
+    assert abs(hm0_error(10.0)) > 0.03
+    assert 1.0 - 0.287 * math.log(33.0) < 0.0
+    # the bound itself and the lower bound 1 (PM) are accepted
+    w = np.linspace(0.1, 3.0, 10)
+    assert np.all(jonswap(w, 4.0, 8.0, gamma=7.0) >= 0.0)
+    assert np.all(SeaSpectrum(kind="jonswap", hs_m=4.0, tp_s=8.0, gamma=1.0).density(w) >= 0.0)
+
+
+@pytest.mark.parametrize(
+    ("kwargs", "field"),
+    [
+        # a 2-D array names the field that holds it
+        ({"hs_m": 4.0, "tp_s": np.full((2, 1), 8.0)}, "tp_s"),
+        ({"hs_m": 4.0, "tp_s": 8.0, "gamma": np.full((2, 2), 3.3)}, "gamma"),
+        ({"hs_m": np.full((2, 1), 4.0), "tp_s": 8.0}, "hs_m"),
+        # per-trial lengths that disagree name the field that disagrees with the first
+        ({"hs_m": np.array([4.0, 4.0]), "tp_s": np.array([8.0, 8.0, 8.0])}, "tp_s"),
+        ({"hs_m": np.array([4.0, 4.0]), "tp_s": 8.0, "gamma": np.array([2.0, 2.0, 2.0])}, "gamma"),
+        ({"hs_m": 4.0, "tp_s": np.array([8.0, 8.0]), "gamma": np.array([2.0, 2.0, 2.0])}, "gamma"),
+    ],
+)
+def test_shape_errors_name_the_offending_field(kwargs, field):
+    # ARCHITECTURE: ParameterError names the field at fault (common practice, no source).
+    with pytest.raises(ParameterError) as err:
+        SeaSpectrum(kind="jonswap", **kwargs)
+    assert err.value.field == field
+
+
 def test_kind_error_lists_allowed_values():
     with pytest.raises(ParameterError) as err:
         SeaSpectrum(kind="ochi", hs_m=1.0, tp_s=5.0)

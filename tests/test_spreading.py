@@ -188,6 +188,22 @@ def test_rejects_bad_parameters(kwargs, field):
         DirectionalSpreading(**kwargs)
 
 
+@pytest.mark.parametrize(
+    ("kwargs", "field"),
+    [
+        ({"exponent": np.full((2, 2), 4.0)}, "exponent"),
+        ({"mean_dir_deg": np.zeros((3, 1))}, "mean_dir_deg"),
+        ({"exponent": 4.0, "mean_dir_deg": np.zeros((2, 1))}, "mean_dir_deg"),
+        ({"exponent": np.array([4.0, 6.0]), "mean_dir_deg": np.zeros(3)}, "mean_dir_deg"),
+    ],
+)
+def test_shape_errors_name_the_offending_field(kwargs, field):
+    # ARCHITECTURE: ParameterError names the field at fault (common practice, no source).
+    with pytest.raises(ParameterError) as err:
+        DirectionalSpreading(kind="cos2s", **kwargs)
+    assert err.value.field == field
+
+
 def test_functions_reject_bad_exponent():
     with pytest.raises(ParameterError, match="s ="):
         cos2s(0.0, 0.0, 0.0)

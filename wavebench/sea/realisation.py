@@ -199,6 +199,27 @@ def _per_trial(x: Any, n_trials: int, name: str) -> NDArray[np.float64]:
     return a
 
 
+def _check_trial_lengths(spectrum: SeaSpectrum, spreading: DirectionalSpreading, n_trials: int) -> None:
+    """Per-trial parameters of ``spectrum`` and ``spreading`` must have shape (n_trials,)."""
+    fields = [
+        ("spectrum.hs_m", spectrum.hs_m),
+        ("spectrum.tp_s", spectrum.tp_s),
+        ("spectrum.gamma", spectrum.gamma),
+        ("spreading.exponent", spreading.exponent),
+        ("spreading.mean_dir_deg", spreading.mean_dir_deg),
+    ]
+    for name, value in fields:
+        if value is None or np.ndim(value) == 0:
+            continue
+        if np.shape(value) != (n_trials,):
+            raise ParameterError(
+                name,
+                value,
+                f"must be a scalar or an array of shape ({n_trials},), one per trial of streams "
+                f"(streams.n_trials = {n_trials}); got shape {np.shape(value)}",
+            )
+
+
 def realise_sea(
     spectrum: SeaSpectrum,
     spreading: DirectionalSpreading,
@@ -239,6 +260,14 @@ def realise_sea(
     WaveComponents
         Arrays of shape (n_trials, n_components).
 
+    Raises
+    ------
+    ParameterError
+        Naming the field (e.g. ``spectrum.hs_m``) when a per-trial parameter
+        of ``spectrum`` or ``spreading`` does not have shape
+        ``(streams.n_trials,)``; for a bad ``n_components``, ``amplitudes``
+        or ``depth_m``.
+
     Examples
     --------
     >>> from wavebench.core.streams import TrialStreams
@@ -253,6 +282,7 @@ def realise_sea(
     if amplitudes not in AMPLITUDE_MODES:
         raise ParameterError("amplitudes", amplitudes, f"must be one of {AMPLITUDE_MODES}")
     n = streams.n_trials
+    _check_trial_lengths(spectrum, spreading, n)
     k_count = int(n_components)
     lo, hi = spectrum.frequency_band(band_fraction)
     lo = _per_trial(lo, n, "spectrum.tp_s")

@@ -52,6 +52,7 @@ from ..core.errors import ParameterError, WavebenchWarning
 from ..core.params import Bounds, Params, bounded, check_value
 
 __all__ = [
+    "JONSWAP_GAMMA_RANGE",
     "JONSWAP_SIGMA_ABOVE",
     "JONSWAP_SIGMA_BELOW",
     "JONSWAP_VALID_TP_OVER_SQRT_HS",
@@ -76,8 +77,18 @@ JONSWAP_SIGMA_ABOVE = 0.09
 #: reasonable model: 3.6 < Tp/sqrt(Hs) < 5.
 JONSWAP_VALID_TP_OVER_SQRT_HS = (3.6, 5.0)
 
+#: Range of the JONSWAP peak-enhancement factor gamma [-] accepted by
+#: :func:`jonswap` and :class:`SeaSpectrum`: 1 <= gamma <= 7. DNV-RP-C205 (2010)
+#: sec. 3.5.5 gives its period-ratio fits for 1 <= gamma < 7 (range from memory,
+#: not re-checked), and its normalisation A_gamma = 1 - 0.287 ln(gamma) keeps
+#: 4 sqrt(m0) within about 1 % of Hs only up to gamma ~ 7 (checked numerically in
+#: the tests); above that the error grows (~3.5 % at gamma = 10, ~22 % at 20) and
+#: A_gamma turns negative for gamma > exp(1/0.287) ~ 32.6.
+JONSWAP_GAMMA_RANGE = (1.0, 7.0)
+
 _POSITIVE = Bounds(gt=0.0)
-_GAMMA = Bounds(ge=1.0)
+_GAMMA = Bounds(ge=1.0)  # period-ratio fits: warn above 7 rather than refuse
+_GAMMA_SPECTRUM = Bounds(ge=JONSWAP_GAMMA_RANGE[0], le=JONSWAP_GAMMA_RANGE[1])
 _KINDS = ("jonswap", "pierson_moskowitz")
 # wp/omega above this gives exactly 0.0 in double precision (exp(-1.25 x^4)
 # underflows long before x^5 overflows); clipping avoids inf * 0 at omega -> 0.
@@ -261,8 +272,9 @@ def jonswap(
     tp_s : float or ndarray of shape (n_trials, 1)
         Peak period Tp [s], > 0.
     gamma : float or ndarray of shape (n_trials, 1), optional
-        Peak-enhancement factor [-], >= 1. ``None`` (default) applies the
-        DNV rule :func:`dnv_gamma`.
+        Peak-enhancement factor [-], 1 <= gamma <= 7 (see
+        :data:`JONSWAP_GAMMA_RANGE`). ``None`` (default) applies the DNV rule
+        :func:`dnv_gamma`.
 
     Returns
     -------
@@ -272,8 +284,8 @@ def jonswap(
     Raises
     ------
     ParameterError
-        For non-positive or non-finite ``hs_m``/``tp_s``, ``gamma < 1``, or
-        bad ``omega``.
+        For non-positive or non-finite ``hs_m``/``tp_s``, ``gamma`` outside
+        [1, 7], or bad ``omega``.
 
     Warns
     -----
@@ -294,7 +306,8 @@ def jonswap(
 
     with sigma = 0.07 for omega <= omega_p and 0.09 above. A_gamma is an
     approximate normalisation, so ``4 sqrt(m0)`` differs from Hs by up to
-    about one per cent for gamma in [1, 7].
+    about one per cent for gamma in [1, 7]. Larger gamma is refused: the
+    error grows quickly above 7 and A_gamma < 0 above gamma ~ 32.6.
 
     References
     ----------
@@ -306,7 +319,7 @@ def jonswap(
     if gamma is None:
         g_val = dnv_gamma(hs, tp)
     else:
-        g_val = check_value("gamma", gamma, _GAMMA)
+        g_val = check_value("gamma", gamma, _GAMMA_SPECTRUM)
         _warn_outside_range(hs, tp, stacklevel=3)
     return _jonswap_unchecked(w, hs, tp, g_val)
 
@@ -563,7 +576,8 @@ class SeaSpectrum(Params):
     tp_s : float or ndarray of shape (n_trials,)
         Peak period Tp [s], > 0.
     gamma : float, ndarray of shape (n_trials,) or None
-        JONSWAP peak-enhancement factor [-], >= 1; ``None`` applies the
+        JONSWAP peak-enhancement factor [-], 1 <= gamma <= 7 (see
+        :data:`JONSWAP_GAMMA_RANGE`); ``None`` applies the
         DNV-RP-C205 rule (:func:`dnv_gamma`). Must be ``None`` or 1 for
         ``kind="pierson_moskowitz"``.
 
@@ -593,7 +607,7 @@ class SeaSpectrum(Params):
         default=None,
         metadata={
             "unit": "",
-            "doc": "JONSWAP peak-enhancement factor (>= 1), None for the DNV rule",
+            "doc": "JONSWAP peak-enhancement factor (1 to 7), None for the DNV rule",
         },
     )
 
@@ -601,24 +615,28 @@ class SeaSpectrum(Params):
         if self.kind not in _KINDS:
             raise ParameterError("kind", self.kind, "must be one of 'jonswap', 'pierson_moskowitz'")
         if self.gamma is not None:
-            object.__setattr__(self, "gamma", check_value("gamma", self.gamma, _GAMMA))
+            object.__setattr__(self, "gamma", check_value("gamma", self.gamma, _GAMMA_SPECTRUM))
             if self.kind == "pierson_moskowitz" and np.any(np.asarray(self.gamma) != 1.0):
                 raise ParameterError(
                     "gamma", self.gamma, "must be None (or 1) for kind 'pierson_moskowitz'"
                 )
-        shapes = [np.shape(v) for v in (self.hs_m, self.tp_s, self.gamma) if v is not None]
-        if any(len(s) > 1 for s in shapes):
-            raise ParameterError(
-                "hs_m",
-                self.hs_m,
-                "hs_m, tp_s and gamma must be scalars or arrays of shape (n_trials,)",
-            )
-        try:
-            np.broadcast_shapes(*shapes)
-        except ValueError:
-            raise ParameterError(
-                "tp_s", self.tp_s, f"per-trial shapes do not match: {shapes}"
-            ) from None
+        named = [(k, getattr(self, k)) for k in ("hs_m", "tp_s", "gamma")]
+        named = [(k, v) for k, v in named if v is not None]
+        for k, v in named:
+            if np.ndim(v) > 1:
+                raise ParameterError(
+                    k, v, f"must be a scalar or an array of shape (n_trials,), got shape {np.shape(v)}"
+                )
+        # per-trial lengths must agree (numpy broadcasting: a length-1 array goes with any)
+        per_trial = [(k, np.shape(v)[0]) for k, v in named if np.ndim(v) == 1 and np.shape(v)[0] != 1]
+        for k, n in per_trial[1:]:
+            first, n0 = per_trial[0]
+            if n != n0:
+                raise ParameterError(
+                    k,
+                    getattr(self, k),
+                    f"must have the same length as {first} ({n0} trials), got length {n}",
+                )
         if self.kind == "jonswap" and self.gamma is not None:
             _warn_outside_range(self.hs_m, self.tp_s, stacklevel=5)
 

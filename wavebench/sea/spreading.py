@@ -263,19 +263,19 @@ class DirectionalSpreading(Params):
             raise ParameterError(
                 "kind", self.kind, "must be one of 'cos2s', 'cosn', 'long_crested'"
             )
-        shapes = [np.shape(self.exponent), np.shape(self.mean_dir_deg)]
-        if any(len(s) > 1 for s in shapes):
+        named = [("exponent", self.exponent), ("mean_dir_deg", self.mean_dir_deg)]
+        for k, v in named:
+            if np.ndim(v) > 1:
+                raise ParameterError(
+                    k, v, f"must be a scalar or an array of shape (n_trials,), got shape {np.shape(v)}"
+                )
+        # per-trial lengths must agree (numpy broadcasting: a length-1 array goes with any)
+        per_trial = [(k, np.shape(v)[0]) for k, v in named if np.ndim(v) == 1 and np.shape(v)[0] != 1]
+        if len(per_trial) == 2 and per_trial[0][1] != per_trial[1][1]:
+            (first, n0), (k, n) = per_trial
             raise ParameterError(
-                "exponent",
-                self.exponent,
-                "exponent and mean_dir_deg must be scalars or shape (n_trials,)",
+                k, getattr(self, k), f"must have the same length as {first} ({n0} trials), got length {n}"
             )
-        try:
-            np.broadcast_shapes(*shapes)
-        except ValueError:
-            raise ParameterError(
-                "mean_dir_deg", self.mean_dir_deg, f"per-trial shapes do not match: {shapes}"
-            ) from None
 
     @property
     def mean_toward_rad(self) -> Any:
