@@ -32,6 +32,7 @@ from wavebench.sea.current import (
     jet_velocity_ned,
     linear_profile,
     power_law_profile,
+    tidal_along_axis_speed,
 )
 
 # ---------------------------------------------------------------------------
@@ -541,3 +542,98 @@ def test_model_checks() -> None:
     with pytest.raises(ParameterError) as exc:
         gauss_markov_record(TrialStreams(0, 2), "x", [1.0], [0.0], dt_s=1.0, n_samples=3)
     assert exc.value.field == "tc_s"
+
+
+# --- shapes of per-trial and per-constituent parameters ----------------------------------
+# ARCHITECTURE: numeric fields are scalars or per-trial arrays of shape (n_trials,), and a
+# shape error is a ParameterError naming the field at fault (common practice, no source).
+
+_TIDE = dict(flood_set_deg=45.0, water_depth_m=30.0)
+
+
+@pytest.mark.parametrize(
+    ("kwargs", "field"),
+    [
+        # constituent counts: compared with amplitudes_mps, the field that differs is named
+        ({"amplitudes_mps": [1.0, 0.5], "periods_h": [M2_PERIOD_H], "phases_deg": [0.0, 0.0]}, "periods_h"),
+        ({"amplitudes_mps": [1.0], "periods_h": [M2_PERIOD_H], "phases_deg": [0.0, 10.0]}, "phases_deg"),
+        # per-trial rows of the tables must agree with each other ...
+        (
+            {
+                "amplitudes_mps": np.ones((3, 2)),
+                "periods_h": np.full((2, 2), M2_PERIOD_H),
+                "phases_deg": [0.0, 0.0],
+            },
+            "periods_h",
+        ),
+        (
+            {
+                "amplitudes_mps": [1.0, 0.5],
+                "periods_h": [M2_PERIOD_H, S2_PERIOD_H],
+                "phases_deg": np.zeros((4, 2)),
+                "water_depth_m": np.full(3, 30.0),
+            },
+            "phases_deg",
+        ),
+        # ... and with the per-trial scalars
+        (
+            {
+                "amplitudes_mps": np.ones((2, 1)),
+                "periods_h": [M2_PERIOD_H],
+                "phases_deg": [0.0],
+                "mean_speed_mps": np.zeros(3),
+            },
+            "amplitudes_mps",
+        ),
+        (
+            {"amplitudes_mps": [1.0], "periods_h": [M2_PERIOD_H], "phases_deg": [0.0],
+             "flood_set_deg": np.zeros(2), "exponent": np.full(3, 1 / 7)},
+            "exponent",
+        ),
+        # more than 2-D tables, 2-D per-trial scalars
+        ({"amplitudes_mps": np.ones((2, 2, 1)), "periods_h": [M2_PERIOD_H], "phases_deg": [0.0]}, "amplitudes_mps"),
+        ({"amplitudes_mps": [1.0], "periods_h": [M2_PERIOD_H], "phases_deg": [0.0],
+          "mean_speed_mps": np.zeros((2, 1))}, "mean_speed_mps"),
+    ],
+)
+def test_tidal_shapes_are_cross_checked(kwargs, field) -> None:
+    args = {**_TIDE, **kwargs}
+    with pytest.raises(ParameterError) as exc:
+        TidalCurrentParams(**args)
+    assert exc.value.field == field
+
+
+def test_tidal_consistent_per_trial_shapes_accepted() -> None:
+    # per-trial tables and per-trial scalars of the same length, or shared (n_constituents,)
+    # tables with per-trial scalars: accepted, and each trial's speed is its own sum
+    # u = mean + A cos(2 pi t / T - phi) (the formula in the TidalCurrentParams docstring).
+    amps = np.array([[1.0, 0.2], [0.5, 0.1], [0.0, 0.3]])
+    p = TidalCurrentParams(
+        flood_set_deg=np.array([0.0, 90.0, 180.0]),
+        water_depth_m=30.0,
+        amplitudes_mps=amps,
+        periods_h=[M2_PERIOD_H, S2_PERIOD_H],
+        phases_deg=np.zeros((3, 2)),
+    )
+    t = np.full(3, 3600.0)
+    expected = amps[:, 0] * np.cos(2 * np.pi / M2_PERIOD_H) + amps[:, 1] * np.cos(2 * np.pi / S2_PERIOD_H)
+    np.testing.assert_allclose(tidal_along_axis_speed(p, t), expected, rtol=1e-12)
+
+
+@pytest.mark.parametrize(
+    ("cls", "kwargs", "field"),
+    [
+        (UniformCurrentParams, {"speed_mps": np.ones((2, 1))}, "speed_mps"),
+        (UniformCurrentParams, {"speed_mps": 0.5, "set_deg": np.zeros((1, 3))}, "set_deg"),
+        (UniformCurrentParams, {"speed_mps": np.ones(2), "set_deg": np.zeros(3)}, "set_deg"),
+        (WindDrivenCurrentParams, {"surface_speed_mps": np.ones((2, 2))}, "surface_speed_mps"),
+        (CurrentVariationParams, {"speed_sigma_mps": np.ones(2), "set_tc_s": np.full(3, 60.0)}, "set_tc_s"),
+        (JetCurrentParams, {"peak_speed_mps": np.ones((2, 1))}, "peak_speed_mps"),
+        (EddyCurrentParams, {"radius_m": np.full((2, 1), 100.0)}, "radius_m"),
+    ],
+)
+def test_current_blocks_require_scalar_or_per_trial_vector(cls, kwargs, field) -> None:
+    with pytest.raises(ParameterError) as exc:
+        cls(**kwargs)
+    assert exc.value.field == field
+    assert "n_trials" in str(exc.value) or "trials" in str(exc.value)

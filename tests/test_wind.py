@@ -408,3 +408,43 @@ def test_bad_spectrum_arguments() -> None:
     with pytest.raises(ParameterError) as exc:
         npd_spectrum(float("nan"), 10.0)
     assert exc.value.field == "f_hz"
+
+
+# --- shapes of per-trial parameters --------------------------------------------------------
+# ARCHITECTURE: numeric fields are scalars or per-trial arrays of shape (n_trials,); a shape
+# error is a ParameterError naming the field at fault (common practice, no source).
+
+
+@pytest.mark.parametrize(
+    ("cls", "kwargs", "field"),
+    [
+        (WindParams, {"speed_mps": np.full((2, 1), 10.0)}, "speed_mps"),
+        (WindParams, {"speed_mps": 10.0, "direction_from_deg": np.zeros((1, 2))}, "direction_from_deg"),
+        (WindParams, {"speed_mps": np.full(2, 10.0), "height_m": np.full(3, 10.0)}, "height_m"),
+        (
+            WindageParams,
+            {"frontal_area_m2": np.ones((2, 1)), "lateral_area_m2": 1.0, "length_oa_m": 1.0},
+            "frontal_area_m2",
+        ),
+        (
+            WindageParams,
+            {"frontal_area_m2": np.ones(2), "lateral_area_m2": np.ones(3), "length_oa_m": 1.0},
+            "lateral_area_m2",
+        ),
+    ],
+)
+def test_per_trial_shapes_name_the_field(cls, kwargs, field) -> None:
+    with pytest.raises(ParameterError) as exc:
+        cls(**kwargs)
+    assert exc.value.field == field
+
+
+def test_init_wind_checks_lengths_against_the_streams() -> None:
+    params = WindParams(speed_mps=np.array([8.0, 12.0]), direction_from_deg=270.0, n_components=4)
+    with pytest.raises(ParameterError) as exc:
+        init_wind(params, TrialStreams(seed=0, trials=3))
+    assert exc.value.field == "speed_mps"
+    assert "(3,)" in str(exc.value)
+    # the matching length is accepted: one mean speed per trial
+    state = init_wind(params, TrialStreams(seed=0, trials=2))
+    assert state.mean_speed_mps.shape == (2,)

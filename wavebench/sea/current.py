@@ -91,7 +91,7 @@ __all__ = [
 
 #: Angular speeds of the main tidal constituents [deg/h], IHO standard
 #: constituent list (values from memory, cross-read against a third-party
-#: transcription of that list, not re-checked against the IHO document).
+#: copy of the standard list, not re-checked against the IHO document).
 TIDAL_SPEEDS_DEG_PER_H: dict[str, float] = {
     "M2": 28.9841042,  # principal lunar semidiurnal
     "S2": 30.0,  # principal solar semidiurnal
@@ -223,6 +223,39 @@ def linear_profile(depth_m: Any, reference_depth_m: Any) -> np.ndarray:
 # ---------------------------------------------------------------------------
 
 
+def _check_per_trial(params: Params, names: tuple[str, ...], tables: tuple[str, ...] = ()) -> None:
+    """Per-trial fields of ``params`` share one trial axis.
+
+    Each field in ``names`` must be a scalar or of shape (n_trials,); each in
+    ``tables`` of shape (n_columns,) (shared by the trials) or
+    (n_trials, n_columns). All per-trial lengths must agree; the error names
+    the first field that disagrees with the first per-trial field (in the
+    order given by ``names`` then ``tables``).
+    """
+    ref: tuple[str, int] | None = None
+    for name in names + tables:
+        value = getattr(params, name)
+        nd = np.ndim(value)
+        if name in tables:
+            n = np.shape(value)[0] if nd == 2 else None
+        else:
+            if nd > 1:
+                raise ParameterError(
+                    name, value, f"must be a scalar or an array of shape (n_trials,), got shape {np.shape(value)}"
+                )
+            n = np.shape(value)[0] if nd == 1 else None
+        if n is None:
+            continue
+        if ref is None:
+            ref = (name, n)
+        elif n != ref[1]:
+            raise ParameterError(
+                name,
+                value,
+                f"must have one entry per trial like {ref[0]} ({ref[1]} trials), got {n}",
+            )
+
+
 def _direction_field(name: str) -> Any:
     return bounded(
         0.0,
@@ -254,6 +287,9 @@ class UniformCurrentParams(Params):
     speed_mps: float = bounded(0.0, ge=0.0, unit="m/s", doc="current speed")
     set_deg: float = _direction_field("set")
 
+    def _check(self) -> None:
+        _check_per_trial(self, ("speed_mps", "set_deg"))
+
 
 @dataclass(frozen=True, kw_only=True)
 class CurrentVariationParams(Params):
@@ -281,6 +317,9 @@ class CurrentVariationParams(Params):
     speed_tc_s: float = bounded(600.0, gt=0.0, unit="s", doc="speed correlation time")
     set_sigma_deg: float = bounded(0.0, ge=0.0, le=180.0, unit="deg", doc="set std deviation")
     set_tc_s: float = bounded(600.0, gt=0.0, unit="s", doc="set correlation time")
+
+    def _check(self) -> None:
+        _check_per_trial(self, ("speed_sigma_mps", "speed_tc_s", "set_sigma_deg", "set_tc_s"))
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -310,6 +349,9 @@ class WindDrivenCurrentParams(Params):
     surface_speed_mps: float = bounded(0.0, ge=0.0, unit="m/s", doc="surface speed")
     set_deg: float = _direction_field("set")
     reference_depth_m: float = bounded(50.0, gt=0.0, unit="m", doc="depth where v reaches 0")
+
+    def _check(self) -> None:
+        _check_per_trial(self, ("surface_speed_mps", "set_deg", "reference_depth_m"))
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -343,6 +385,13 @@ class TidalCurrentParams(Params):
     exponent : float or ndarray of shape (n_trials,)
         Power-law exponent, 1/7 in DNV-RP-C205.
 
+    Raises
+    ------
+    ParameterError
+        Naming the field, when the three constituent tables differ in their
+        number of constituents, or any per-trial field (the scalars' length,
+        the tables' rows) differs in its number of trials from the others.
+
     Examples
     --------
     >>> p = TidalCurrentParams(flood_set_deg=45.0, water_depth_m=30.0,
@@ -362,22 +411,29 @@ class TidalCurrentParams(Params):
     exponent: float = bounded(1.0 / 7.0, gt=0.0, le=1.0, doc="power-law exponent")
 
     def _check(self) -> None:
-        shapes = {}
-        for name in ("amplitudes_mps", "periods_h", "phases_deg"):
+        tables = ("amplitudes_mps", "periods_h", "phases_deg")
+        n_const: dict[str, int] = {}
+        for name in tables:
             value = np.atleast_1d(getattr(self, name))
             if value.ndim > 2:
                 raise ParameterError(
                     name, value, "must have shape (n_constituents,) or (n_trials, n_constituents)"
                 )
             object.__setattr__(self, name, value)
-            shapes[name] = value.shape[-1]
-        if len(set(shapes.values())) != 1:
-            raise ParameterError(
-                "periods_h",
-                self.periods_h,
-                f"amplitudes_mps, periods_h and phases_deg need the same number of constituents "
-                f"(got {shapes})",
-            )
+            n_const[name] = value.shape[-1]
+        for name in tables[1:]:
+            if n_const[name] != n_const["amplitudes_mps"]:
+                raise ParameterError(
+                    name,
+                    getattr(self, name),
+                    f"must have the same number of constituents as amplitudes_mps "
+                    f"({n_const['amplitudes_mps']}), got {n_const[name]}",
+                )
+        # per-trial rows of the constituent tables agree with each other and with
+        # the per-trial scalars
+        _check_per_trial(
+            self, ("flood_set_deg", "water_depth_m", "mean_speed_mps", "exponent"), tables
+        )
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -407,6 +463,11 @@ class JetCurrentParams(Params):
     axis_north_m: float = bounded(0.0, unit="m", doc="north of a point on the axis")
     axis_east_m: float = bounded(0.0, unit="m", doc="east of a point on the axis")
     half_width_m: float = bounded(100.0, gt=0.0, unit="m", doc="e-folding half-width")
+
+    def _check(self) -> None:
+        _check_per_trial(
+            self, ("peak_speed_mps", "set_deg", "axis_north_m", "axis_east_m", "half_width_m")
+        )
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -441,6 +502,9 @@ class EddyCurrentParams(Params):
     def _check(self) -> None:
         if not isinstance(self.clockwise, (bool, np.bool_)):
             raise ParameterError("clockwise", self.clockwise, "must be True or False")
+        _check_per_trial(
+            self, ("peak_speed_mps", "centre_north_m", "centre_east_m", "radius_m")
+        )
 
 
 # ---------------------------------------------------------------------------

@@ -182,6 +182,35 @@ def npd_mean_speed(u10_mps: Any, z_m: Any) -> np.ndarray:
 # ---------------------------------------------------------------------------
 
 
+def _check_per_trial(params: Params, names: tuple[str, ...]) -> int | None:
+    """Fields ``names`` of ``params`` are scalars or arrays of one shape (n_trials,).
+
+    Returns the common length, or None if all are scalars. The error names the
+    field at fault: a field with more than one dimension, or the first whose
+    length differs from the first per-trial field's.
+    """
+    ref: tuple[str, int] | None = None
+    for name in names:
+        value = getattr(params, name)
+        if np.ndim(value) > 1:
+            raise ParameterError(
+                name, value, f"must be a scalar or an array of shape (n_trials,), got shape {np.shape(value)}"
+            )
+        if np.ndim(value) == 0:
+            continue
+        n = np.shape(value)[0]
+        if ref is None:
+            ref = (name, n)
+        elif n != ref[1]:
+            raise ParameterError(
+                name, value, f"must have one entry per trial like {ref[0]} ({ref[1]} trials), got {n}"
+            )
+    return None if ref is None else ref[1]
+
+
+_WIND_PER_TRIAL = ("speed_mps", "direction_from_deg", "height_m")
+
+
 @dataclass(frozen=True, kw_only=True)
 class WindParams(Params):
     """Mean wind and gust model.
@@ -203,6 +232,13 @@ class WindParams(Params):
         Frequency band of the gusts [Hz]. The default lower limit 1/3600 Hz
         matches the 1-hour averaging of ``U0``; variance below it is part of
         the mean.
+
+    Raises
+    ------
+    ParameterError
+        Naming the field, when ``speed_mps``, ``direction_from_deg`` or
+        ``height_m`` is neither a scalar nor of shape (n_trials,), or two of
+        them differ in length.
 
     Examples
     --------
@@ -233,6 +269,7 @@ class WindParams(Params):
         object.__setattr__(self, "n_components", int(self.n_components))
         if not self.f_max_hz > self.f_min_hz:
             raise ParameterError("f_max_hz", self.f_max_hz, f"must be > f_min_hz = {self.f_min_hz}")
+        _check_per_trial(self, _WIND_PER_TRIAL)
 
 
 @dataclass(frozen=True)
@@ -281,6 +318,12 @@ def init_wind(params: WindParams, streams: TrialStreams) -> WindState:
     -------
     WindState
 
+    Raises
+    ------
+    ParameterError
+        Naming the field, when a per-trial parameter does not have shape
+        ``(streams.n_trials,)``.
+
     Notes
     -----
     Bin ``k`` spans ``[f_k, f_(k+1)]`` of a geometric grid from ``f_min_hz``
@@ -291,6 +334,15 @@ def init_wind(params: WindParams, streams: TrialStreams) -> WindState:
     band.
     """
     n = streams.n_trials
+    for name in _WIND_PER_TRIAL:
+        value = getattr(params, name)
+        if np.ndim(value) != 0 and np.shape(value) != (n,):
+            raise ParameterError(
+                name,
+                value,
+                f"must be a scalar or an array of shape ({n},), one per trial of streams "
+                f"(streams.n_trials = {n}); got shape {np.shape(value)}",
+            )
     u0 = np.broadcast_to(np.asarray(params.speed_mps, dtype=float), (n,)).copy()
     z = np.broadcast_to(np.asarray(params.height_m, dtype=float), (n,)).copy()
     beta = np.broadcast_to(np.deg2rad(params.direction_from_deg), (n,)).copy()
@@ -448,6 +500,12 @@ class WindageParams(Params):
     c_y: float = bounded(0.825, ge=0.0, doc="sway coefficient amplitude")
     c_n: float = bounded(0.125, ge=0.0, doc="yaw coefficient amplitude")
     rho_air_kg_m3: float = bounded(RHO_AIR, gt=0.0, unit="kg/m^3", doc="air density")
+
+    def _check(self) -> None:
+        _check_per_trial(
+            self,
+            ("frontal_area_m2", "lateral_area_m2", "length_oa_m", "c_x", "c_y", "c_n", "rho_air_kg_m3"),
+        )
 
 
 @dataclass(frozen=True)
