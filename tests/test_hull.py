@@ -172,6 +172,63 @@ def test_relative_velocity_model_equals_ground_frame_rigid_body_form() -> None:
     np.testing.assert_allclose(lhs, tau, rtol=1e-9, atol=1e-9 * np.abs(tau).max())
 
 
+@pytest.mark.parametrize("hull", hulls_under_test())
+def test_munk_moment_in_pure_translation(hull: HullParams) -> None:
+    # Munk moment, written out by hand (not from the code's matrices). For a hull moving
+    # in pure translation through still water, nu = nu_r = (u, v, 0):
+    # * Fossen (2021) ch. 6, 3-DOF C_A(nu_r) (skew-symmetric form): its yaw row is
+    #   [-Y_vdot v_r - Ybar r, X_udot u_r, 0], so the yaw component of C_A nu_r at r = 0 is
+    #   -Y_vdot v u + X_udot u v = (X_udot - Y_vdot) u v, the Munk moment;
+    # * Fossen (2021) ch. 6, 3-DOF C_RB(nu): yaw row [m(x_g r + v), -m u, 0], so the yaw
+    #   component of C_RB nu is m x_g r u, which is 0 at r = 0 whatever x_g.
+    # The same moment follows from Kirchhoff's equations for a body in an ideal fluid with
+    # added-mass energy T_A = (A11 u^2 + A22 v^2) / 2, A11 = -X_udot, A22 = -Y_vdot: the
+    # fluid moment is -(U x dT_A/dU)_z = (A11 - A22) u v, i.e. minus the term above
+    # (the Munk moment; Newman, Marine Hydrodynamics, MIT Press 1977, ch. 4 — chapter
+    # from memory, section not re-checked). For a slender hull (A22 > A11) it turns the
+    # hull broadside to its velocity: it is destabilising.
+    rng = np.random.default_rng(31)
+    n = N_TRIALS
+    u = rng.uniform(0.5, 4.0, n)
+    v = rng.uniform(-1.0, 1.0, n)
+    nu = np.column_stack([u, v, np.zeros(n)])
+    munk = (hull.x_udot - hull.y_vdot) * u * v  # Fossen's expression, by hand
+    a11, a22 = -np.asarray(hull.x_udot), -np.asarray(hull.y_vdot)
+    p_fluid = np.column_stack(np.broadcast_arrays(a11 * u, a22 * v, np.zeros(n)))
+    kirchhoff_moment = -np.cross(nu, p_fluid)[:, 2]  # fluid moment on the hull
+    np.testing.assert_allclose(kirchhoff_moment, -munk, rtol=1e-12)
+
+    # the matrix functions give the same yaw terms
+    yaw_a = np.einsum("nj,nj->n", coriolis_added(hull, nu)[:, 2, :], nu)
+    yaw_rb = np.einsum("nj,nj->n", coriolis_rb(hull, nu)[:, 2, :], nu)
+    np.testing.assert_allclose(yaw_a + yaw_rb, munk, rtol=1e-12, atol=1e-12 * np.abs(munk).max())
+    # m v u - m u v: zero up to rounding of the two products
+    np.testing.assert_allclose(yaw_rb, 0.0, atol=1e-14 * np.max(np.asarray(hull.mass_kg) * np.abs(u * v)))
+
+    # and so does the column form of derivative(): with tau = 0 and r = 0, the sway and
+    # yaw equations of M nu_dot + C nu + D nu = 0 (Fossen 2021 ch. 6), with M's entries
+    # built here from the hull parameters, are
+    #   (m - Y_vdot) v_dot + (m x_g - Ybar) r_dot = (Y_v + Y_|v|v |v|) v
+    #   (m x_g - Ybar) v_dot + (I_z - N_rdot) r_dot = -(X_udot - Y_vdot) u v + N_v v
+    m = np.asarray(hull.mass_kg)
+    ybar = 0.5 * (np.asarray(hull.y_rdot) + np.asarray(hull.n_vdot))
+    m22 = m - hull.y_vdot
+    m23 = m * hull.xg_m - ybar
+    m33 = hull.izz_kgm2 - hull.n_rdot
+    f_sway = (hull.y_v + hull.y_vv * np.abs(v)) * v
+    f_yaw = -munk + hull.n_v * v
+    det = m22 * m33 - m23 * m23
+    v_dot = (m33 * f_sway - m23 * f_yaw) / det
+    r_dot = (m22 * f_yaw - m23 * f_sway) / det
+    _, nu_dot = derivative(hull, np.zeros((n, 3)), nu, np.zeros((n, 3)), None)
+    np.testing.assert_allclose(nu_dot[:, 1], v_dot, rtol=1e-10, atol=1e-12)
+    np.testing.assert_allclose(nu_dot[:, 2], r_dot, rtol=1e-10, atol=1e-12)
+    # sign of the Munk moment for slender hulls: with A22 > A11 and u v > 0 the fluid
+    # moment is negative (bow turns away from the velocity, towards broadside)
+    slender = (a22 > a11) & (u * v > 0)
+    assert np.all(kirchhoff_moment[np.broadcast_to(slender, (n,))] < 0.0)
+
+
 def test_kinetic_energy_is_half_nu_m_nu() -> None:
     rng = np.random.default_rng(5)
     hull = dispersed_hull(rng)

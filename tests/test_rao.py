@@ -130,15 +130,19 @@ def test_heave_is_small_for_waves_much_shorter_than_the_hull() -> None:
 
 
 def test_jensen_amplitude_expressions_match_complex_form() -> None:
-    # Jensen, Mansour & Olsen (2004), heave and pitch amplitudes (formulas written from
-    # memory, not re-checked against the paper):
+    # A consistency check, NOT a verification against the paper: the module's complex
+    # heave and pitch RAOs against the amplitude expressions of Jensen, Mansour & Olsen
+    # (2004) AS RECALLED (written from memory, not re-checked against the paper). Both
+    # sides come from the same recollection, so an error in the recalled formulas would
+    # pass here; what this catches is a slip between the complex form in the module and
+    # the amplitude form below. Recalled expressions:
     #   Phi_w = |eta F|, Phi_theta = |eta G_v|, k_e = |k cos beta|, kappa = exp(-k T),
     #   alpha = 1 - Fn sqrt(k L) cos beta, A = 2 sin(k B alpha^2 / 2) exp(-k T alpha^2),
     #   eta = [(1 - 2 k T alpha^2)^2 + (A^2 / (k B alpha^2))^2]^(-1/2),
     #   f = [(1 - k T)^2 + (A^2 / (k B alpha^3))^2]^(1/2),
     #   F = kappa f (2 / (k_e L)) sin(k_e L / 2),
     #   G_v = kappa f 24 / ((k_e L)^2 L) [sin(k_e L/2) - (k_e L/2) cos(k_e L/2)].
-    # Computed here independently of the module, with B -> Cb B.
+    # Computed here without calling the module, with B -> Cb B.
     length, beam, draft, cb, speed = 50.0, 9.0, 3.0, 0.7, 5.0
     omega = np.linspace(0.2, 2.5, 60)
     betas = np.radians([0.0, 30.0, 120.0, 180.0])  # alpha < 0 at high omega in following seas

@@ -588,8 +588,10 @@ def closed_form_rao(
     equations (the paper is used here for amplitudes). wavebench heave is
     positive down, so the table holds ``-w/a``.
 
-    Details written from memory and not re-checked against the paper:
-    the substitution ``B -> Cb B``; whether the Smith factor ``kappa`` uses
+    The expressions above are written from memory and were not re-checked
+    against the paper (the tests compare them with the same recollection, a
+    consistency check only). Details especially uncertain: the
+    substitution ``B -> Cb B``; whether the Smith factor ``kappa`` uses
     the full wave number k (used here; exact for the Froude–Krylov pressure
     on the bottom of a box) or the effective ``k_e``; the exact form of the
     diffraction term in ``f``. The paper's roll expression is NOT
