@@ -25,6 +25,18 @@ def test_demo_prints_report_and_writes_html(tmp_path: Path, capsys: pytest.Captu
     assert "no substitute for sea trials" in text
 
 
+def test_demo_twin_hull_is_sized_from_the_craft(capsys: pytest.CaptureFixture[str]) -> None:
+    # the ordered speed defaults to 80 % of the craft's own top speed, below it
+    assert main(["demo", "--craft", "Dulse", "--trials", "4", "--quiet"]) == 0
+    out = capsys.readouterr().out
+    assert "1.60 m/s surge" in out and "twin hull" in out
+
+
+def test_demo_rejects_a_speed_above_top_speed(capsys: pytest.CaptureFixture[str]) -> None:
+    assert main(["demo", "--speed", "9", "--trials", "2", "--quiet"]) == 2
+    assert "speed_mps" in capsys.readouterr().err
+
+
 def test_demo_rejects_an_unknown_craft(capsys: pytest.CaptureFixture[str]) -> None:
     assert main(["demo", "--craft", "Nonesuch", "--trials", "2", "--quiet"]) == 2
     err = capsys.readouterr().err

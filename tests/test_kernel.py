@@ -144,3 +144,14 @@ def test_bad_arguments_name_the_field() -> None:
         Plant.build(HULL, 2, components=_plant(2).components)
     with pytest.raises(ParameterError, match="drift_sampling"):
         _plant(2, sampling="sometimes")
+    with pytest.raises(ParameterError, match="n_trials"):
+        Plant.build(HULL, 0)
+    dispersed = dataclasses.replace(HULL, mass_kg=HULL.mass_kg * np.ones(3))
+    with pytest.raises(ParameterError, match="hull"):
+        Plant.build(dispersed, 2)
+    with pytest.raises(ParameterError, match="n_steps"):
+        advance(plant, np.zeros((2, 3)), np.zeros((2, 3)), 0, 0.1, 2.5)
+    with pytest.raises(ParameterError, match="nu"):
+        advance(plant, np.zeros((2, 3)), np.full((2, 3), np.nan), 0, 0.1, 1)
+    with pytest.raises(ParameterError, match="x_max_n"):
+        dataclasses.replace(_pilot(2, np.zeros(2)), x_max_n=-np.ones(2))

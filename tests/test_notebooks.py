@@ -20,7 +20,7 @@ def test_notebook_code_cells_run(path: Path) -> None:
             continue
         source = "".join(cell["source"])
         assert not source.lstrip().startswith(("%", "!")), f"cell {k} uses IPython syntax"
-        exec(compile(source, f"{path.name}[{k}]", "exec"), namespace)  # noqa: S102
+        exec(compile(source, f"{path.name}[{k}]", "exec"), namespace)
 
 
 def test_there_is_a_notebook() -> None:

@@ -77,7 +77,7 @@ def test_out_of_range_message_names_field_value_and_bound(field, value, bound):
     msg = str(info.value)
     assert info.value.field == field
     assert msg.startswith(f"{field} = ")
-    assert repr(float(value)) in msg
+    assert f"{field} = {value!r} " in msg  # the value as received
     assert bound in msg
 
 

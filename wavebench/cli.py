@@ -15,7 +15,7 @@ __all__ = ["main"]
 def _demo(args: argparse.Namespace) -> int:
     from .demo import DemoScenario, run_demo
 
-    scenario = DemoScenario(craft_name=args.craft, n_trials=args.trials, seed=args.seed)
+    scenario = DemoScenario(craft_name=args.craft, n_trials=args.trials, seed=args.seed, speed_mps=args.speed)
     result = run_demo(scenario, progress=not args.quiet)
     print(result.text())
     if args.html:
@@ -40,6 +40,7 @@ def build_parser() -> argparse.ArgumentParser:
     demo.add_argument("--craft", default="Tholepin", help="demo craft name (Tholepin, Dulse)")
     demo.add_argument("--trials", type=int, default=200, help="closed-loop trials (default 200)")
     demo.add_argument("--seed", type=int, default=2026, help="campaign seed (default 2026)")
+    demo.add_argument("--speed", type=float, default=None, help="ordered speed [m/s] (default 80 %% of top speed)")
     demo.add_argument("--html", metavar="PATH", help="also write a self-contained HTML report")
     demo.add_argument("--quiet", action="store_true", help="no progress bar")
     demo.set_defaults(func=_demo)

@@ -2,7 +2,7 @@
 
 The scenario is invented: the demo workboat runs a survey line across
 "Skerrow Sound", an imaginary sound with a short, steep wind sea from the
-south-west and a tidal stream setting south-south-east. The report
+south-west and a uniform current setting south-south-east. The report
 
 1. summarises the sea (spectral periods, the WMO sea-state code, the JONSWAP
    validity range) and checks a batch of realised seas against it;
@@ -11,7 +11,7 @@ south-west and a tidal stream setting south-south-east. The report
 3. runs a batch of closed-loop trials of the craft holding course and speed
    through independent realisations of that sea with the compiled kernel
    (course-keeping only: line-following guidance arrives with the trial
-   runner) and reports how far the sea and the stream set it off the line;
+   runner) and reports how far the sea and the current set it off the line;
 4. prints the manoeuvring report (turning circle, zig-zags) beside the IMO
    MSC.137(76) criteria.
 
@@ -21,15 +21,20 @@ invented water.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 from tqdm.auto import tqdm
 
+from .core.errors import ParameterError
+from .core.params import Params, bounded
 from .core.streams import TrialStreams
+from .craft.actuators import DifferentialThrustParams, max_thrust, min_thrust, prop_rudder_forces
 from .craft.catalogue import CraftParams, demo_craft
 from .craft.kernel import HoldPilot, Plant, advance
-from .craft.manoeuvres import ManoeuvringReport, manoeuvring_report
+from .craft.manoeuvres import ManoeuvringReport, manoeuvring_report, top_speed
 from .report import CAUTION, Series, html_page, line_chart
 from .sea.drift import DriftModel
 from .sea.rao import closed_form_rao
@@ -39,17 +44,17 @@ from .sea.spectra import SeaSpectrum, dnv_period_ratios, jonswap_in_valid_range,
 from .sea.spreading import DirectionalSpreading
 from .sea.wave_motion import significant_amplitude
 
-__all__ = ["DemoResult", "DemoScenario", "run_demo"]
+__all__ = ["DemoResult", "DemoScenario", "hold_pilot_for", "run_demo"]
 
 
-@dataclass(frozen=True)
-class DemoScenario:
-    """Inputs of the demo (all invented).
+@dataclass(frozen=True, kw_only=True)
+class DemoScenario(Params):
+    """Inputs of the demo (all invented), validated on construction.
 
     Parameters
     ----------
     craft_name : str
-        A demo craft name.
+        A demo craft name (see :data:`wavebench.craft.DEMO_CRAFT_NAMES`).
     hs_m, tp_s : float
         Significant wave height [m] and peak period [s] of the JONSWAP sea.
     wave_from_deg : float
@@ -57,31 +62,105 @@ class DemoScenario:
     spreading_s : float
         cos-2s spreading exponent [-].
     current_mps, current_set_deg : float
-        Tidal stream speed [m/s] and set (toward) [deg].
+        Uniform current speed [m/s] and set (toward) [deg].
     line_heading_deg : float
         Heading of the survey line [deg].
-    speed_mps : float
-        Ordered speed through the water [m/s].
+    speed_mps : float or None
+        Ordered surge speed [m/s]; at most the craft's top speed. None (the
+        default) takes 80 % of the craft's calm-water top speed.
     duration_s : float
-        Length of each closed-loop trial [s].
+        Length of each closed-loop trial [s], a whole number of 10 s chunks.
     n_trials : int
-        Number of trials.
+        Number of trials, >= 1.
     seed : int
-        Campaign seed.
+        Campaign seed, >= 0.
     """
 
     craft_name: str = "Tholepin"
-    hs_m: float = 1.2
-    tp_s: float = 5.0
-    wave_from_deg: float = 225.0
-    spreading_s: float = 8.0
-    current_mps: float = 0.4
-    current_set_deg: float = 160.0
-    line_heading_deg: float = 70.0
-    speed_mps: float = 3.0
-    duration_s: float = 600.0
-    n_trials: int = 200
-    seed: int = 2026
+    hs_m: float = bounded(1.2, gt=0.0, le=6.0, unit="m", doc="significant wave height")
+    tp_s: float = bounded(5.0, gt=1.0, le=20.0, unit="s", doc="peak period")
+    wave_from_deg: float = bounded(225.0, ge=-360.0, le=360.0, unit="deg", doc="waves come from")
+    spreading_s: float = bounded(8.0, gt=0.0, unit="1", doc="cos-2s exponent")
+    current_mps: float = bounded(0.4, ge=0.0, le=3.0, unit="m/s", doc="current speed")
+    current_set_deg: float = bounded(160.0, ge=-360.0, le=360.0, unit="deg", doc="current set (toward)")
+    line_heading_deg: float = bounded(70.0, ge=-360.0, le=360.0, unit="deg", doc="survey line heading")
+    speed_mps: Any = dataclasses.field(default=None, metadata={"unit": "m/s", "doc": "ordered speed"})
+    duration_s: float = bounded(600.0, gt=0.0, le=7200.0, unit="s", doc="trial length")
+    n_trials: int = bounded(200, ge=1, le=100_000, integer=True, unit="1", doc="number of trials")
+    seed: int = bounded(2026, ge=0, integer=True, unit="1", doc="campaign seed")
+
+    def _check(self) -> None:
+        try:
+            craft = demo_craft(self.craft_name)
+        except ParameterError as exc:
+            raise ParameterError("craft_name", self.craft_name, exc.allowed) from None
+        if abs(self.duration_s / _CHUNK_S - round(self.duration_s / _CHUNK_S)) > 1e-9:
+            raise ParameterError("duration_s", self.duration_s, f"must be a whole multiple of {_CHUNK_S:g} s")
+        if self.speed_mps is not None:
+            v_max = float(top_speed(craft)[0])
+            v = self.speed_mps
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not 0.0 < v <= v_max:
+                raise ParameterError(
+                    "speed_mps", v, f"must be > 0 and at most {craft.name}'s calm-water top speed {v_max:.2f} m/s"
+                )
+
+    def ordered_speed(self, craft: CraftParams) -> float:
+        """The ordered speed [m/s]: as given, or 80 % of the craft's top speed."""
+        if self.speed_mps is not None:
+            return float(self.speed_mps)
+        return 0.8 * float(top_speed(craft)[0])
+
+
+#: Length of one kernel call in the closed-loop demo [s].
+_CHUNK_S = 10.0
+
+
+def hold_pilot_for(craft: CraftParams, speed_mps: float, heading_rad: float, n_trials: int) -> HoldPilot:
+    """A heading-and-speed hold sized from the craft's own inertia and actuators.
+
+    The surge loop has a 5 s time constant (gain ``m11 / 5 s``) and the heading
+    loop a natural frequency of 0.5 rad/s with damping from the yaw-rate gain
+    (``k_psi = m33 w^2``, ``k_r = 0.3 m33 w``; our own choice, no source). The
+    force and moment demands are limited to what the propulsion can give at
+    the ordered speed: full ahead/astern thrust in surge; for a twin-hull, one
+    thruster ahead and one astern in yaw; for a propeller-rudder craft, the
+    moment of the rudder hard over in the slipstream at the ordered speed.
+
+    Parameters
+    ----------
+    craft : CraftParams
+    speed_mps : float
+        Ordered speed [m/s].
+    heading_rad : float
+        Heading to hold [rad].
+    n_trials : int
+        Batch size.
+
+    Returns
+    -------
+    HoldPilot
+    """
+    hull, prop = craft.hull, craft.propulsion
+    m11 = float(hull.mass_kg - hull.x_udot)
+    m33 = float(hull.izz_kgm2 - hull.n_rdot)
+    w = 0.5
+    if isinstance(prop, DifferentialThrustParams):
+        x_max = float(max_thrust(prop.port) + max_thrust(prop.starboard))
+        n_max = float(
+            abs(prop.port.y_m) * max(max_thrust(prop.port), -min_thrust(prop.port))
+            + abs(prop.starboard.y_m) * max(max_thrust(prop.starboard), -min_thrust(prop.starboard))
+        )
+    else:
+        x_max = float((1.0 - prop.thrust_deduction) * max_thrust(prop.propeller))
+        n_rps = np.array([float(prop.propeller.n_max_rps)])
+        nu_r = np.array([[speed_mps, 0.0, 0.0]])
+        tau = prop_rudder_forces(prop, n_rps, np.radians([float(prop.rudder_max_deg)]), nu_r)
+        n_max = float(abs(tau[0, 2]))
+    ones = np.ones(n_trials)
+    return HoldPilot(
+        u_ref_mps=speed_mps * ones, psi_ref_rad=heading_rad * ones, k_u=m11 / 5.0 * ones,
+        k_psi=m33 * w * w * ones, k_r=0.3 * m33 * w * ones, x_max_n=x_max * ones, n_max_nm=n_max * ones,
+    )  # fmt: skip
 
 
 @dataclass(frozen=True)
@@ -116,7 +195,7 @@ class DemoResult:
             f"wavebench demo: {self.craft.name} in Skerrow Sound (invented)",
             [
                 ("Sea state", self.sea_text, [f["spectrum"], f["elevation"]]),
-                ("Wave-frequency motion and drift", self.motion_text, [f["rao"]]),
+                ("Wave-frequency motion and drift", self.motion_text, [f[k] for k in ("rao",) if k in f]),
                 ("Closed-loop trials", self.loop_text, [f["tracks"], f["offset"]]),
                 ("Manoeuvring", self.manoeuvres.to_text(), [f["turning"]]),
             ],
@@ -162,26 +241,47 @@ def _sea_section(sc: DemoScenario, spec: SeaSpectrum, comps: WaveComponents) -> 
     return "\n".join(lines), {"spectrum": fig_spec, "elevation": fig_elev}
 
 
-def _motion_section(sc: DemoScenario, craft: CraftParams, spec: SeaSpectrum,
+#: Assumed demo values for the closed-form RAOs of a monohull demo craft:
+#: block coefficient (as used to derive the demo hull) and transverse GM [m].
+_RAO_BLOCK_COEFFICIENT = 0.45
+_RAO_GM_M = 0.6
+
+
+def _motion_section(sc: DemoScenario, craft: CraftParams, speed: float, spec: SeaSpectrum,
                     spread: DirectionalSpreading, comps: WaveComponents) -> tuple[str, dict[str, str]]:  # fmt: skip
     hull = craft.hull
+    toward = np.radians(sc.wave_from_deg) + np.pi
+    # craft headings putting the mean sea ahead, abeam (from port) and astern
+    cases = {"head sea": toward + np.pi, "beam sea": toward - 0.5 * np.pi, "following sea": toward}
+    drift = DriftModel.for_hull(comps, length_m=float(hull.length_m), beam_m=float(hull.beam_m),
+                                draft_m=float(hull.draft_m))  # fmt: skip
+    twin = isinstance(craft.propulsion, DifferentialThrustParams)
+    figs: dict[str, str] = {}
+    if twin:
+        lines = [
+            f"{craft.name} is a twin hull: the closed-form RAOs are for box-like monohulls, so no "
+            "wave-frequency motion is shown; supply an RAO table (CSV or NetCDF) for it.",
+            "Mean wave drift (waterline envelope of both hulls, Faltinsen's wall formula with Wiegel's "
+            "reflection), averaged over the trials' seas:",
+            f"{'':<15}{'mean drift X, Y [N]':>24}",
+        ]
+        for name, psi in cases.items():
+            mean = drift.mean_force(comps, np.full(comps.n_trials, psi)).mean(axis=0)
+            lines.append(f"{name:<15}{mean[0]:>13.1f},{mean[1]:>9.1f}")
+        return "\n".join(lines), figs
     omega_grid = np.linspace(0.1, 6.0, 120)
     beta_grid = np.radians(np.arange(0.0, 360.0, 5.0))
     rao = closed_form_rao(
         length_m=float(hull.length_m), beam_m=float(hull.beam_m), draft_m=float(hull.draft_m),
-        block_coefficient=0.45, speed_mps=sc.speed_mps, omega_grid=omega_grid, beta_grid=beta_grid,
-        roll_damping_ratio=0.1, gm_m=0.6,
+        block_coefficient=_RAO_BLOCK_COEFFICIENT, speed_mps=speed, omega_grid=omega_grid, beta_grid=beta_grid,
+        roll_damping_ratio=0.1, gm_m=_RAO_GM_M,
     )  # fmt: skip
-    toward = np.radians(sc.wave_from_deg) + np.pi
-    # craft headings putting the mean sea ahead, abeam (from port) and astern
-    cases = {"head sea": toward + np.pi, "beam sea": toward - 0.5 * np.pi, "following sea": toward}
     heads = np.array(list(cases.values()))
     sig = significant_amplitude(rao, spec, spread, heads, np.linspace(0.05, 6.0, 600))
-    drift = DriftModel.for_hull(comps, length_m=float(hull.length_m), beam_m=float(hull.beam_m),
-                                draft_m=float(hull.draft_m))  # fmt: skip
     lines = [
-        f"{craft.name}: significant wave-frequency motion (2 sqrt(m0)) at {sc.speed_mps:.1f} m/s, "
-        "closed-form RAOs (Jensen, Mansour & Olsen 2004 heave/pitch; roll model of our own)",
+        f"{craft.name}: significant wave-frequency motion (2 sqrt(m0)) at {speed:.1f} m/s, closed-form RAOs "
+        "(Jensen, Mansour & Olsen 2004 heave/pitch; roll model of our own; assumed demo values "
+        f"Cb = {_RAO_BLOCK_COEFFICIENT}, GM = {_RAO_GM_M} m, roll damping 10 % of critical)",
         f"{'':<15}{'heave [m]':>11}{'roll [deg]':>12}{'pitch [deg]':>13}{'mean drift X, Y [N]':>24}",
     ]
     for (name, psi), amp in zip(cases.items(), sig, strict=True):
@@ -192,17 +292,17 @@ def _motion_section(sc: DemoScenario, craft: CraftParams, spec: SeaSpectrum,
         )
     head = rao.evaluate(omega_grid, np.full(omega_grid.shape, np.pi))
     beam = rao.evaluate(omega_grid, np.full(omega_grid.shape, 0.5 * np.pi))
-    fig = line_chart(
+    figs["rao"] = line_chart(
         [Series(omega_grid, np.abs(head[:, 2]), "heave, head sea [m/m]"),
          Series(omega_grid, np.abs(head[:, 4]), "pitch, head sea [rad/m]"),
          Series(omega_grid, np.abs(beam[:, 3]), "roll, beam sea [rad/m]")],
-        title=f"RAO amplitudes at {sc.speed_mps:.1f} m/s", xlabel="wave frequency omega [rad/s]",
+        title=f"RAO amplitudes at {speed:.1f} m/s", xlabel="wave frequency omega [rad/s]",
         ylabel="|RAO|",
     )  # fmt: skip
-    return "\n".join(lines), {"rao": fig}
+    return "\n".join(lines), figs
 
 
-def _loop_section(sc: DemoScenario, craft: CraftParams, comps: WaveComponents,
+def _loop_section(sc: DemoScenario, craft: CraftParams, speed: float, comps: WaveComponents,
                   progress: bool) -> tuple[str, dict[str, str]]:  # fmt: skip
     hull = craft.hull
     n = comps.n_trials
@@ -210,20 +310,16 @@ def _loop_section(sc: DemoScenario, craft: CraftParams, comps: WaveComponents,
                                 draft_m=float(hull.draft_m))  # fmt: skip
     plant = Plant.build(hull, n, comps, drift)
     line = np.radians(sc.line_heading_deg)
-    ones = np.ones(n)
-    m33 = float(hull.izz_kgm2 - hull.n_rdot)
-    pilot = HoldPilot(
-        u_ref_mps=sc.speed_mps * ones, psi_ref_rad=line * ones, k_u=3000.0 * ones,
-        k_psi=0.25 * m33 * ones, k_r=0.15 * m33 * ones, x_max_n=4500.0 * ones, n_max_nm=6000.0 * ones,
-    )  # fmt: skip
+    pilot = hold_pilot_for(craft, speed, line, n)
     cur_dir = np.radians(sc.current_set_deg)
     current = np.tile([sc.current_mps * np.cos(cur_dir), sc.current_mps * np.sin(cur_dir)], (n, 1))
-    dt, chunk = 0.1, 100
-    n_chunks = round(sc.duration_s / (dt * chunk))
+    dt = 0.1
+    chunk = round(_CHUNK_S / dt)
+    n_chunks = round(sc.duration_s / _CHUNK_S)
     eta = np.zeros((n, 3))
     eta[:, 2] = line
     nu = np.zeros((n, 3))
-    nu[:, 0] = sc.speed_mps
+    nu[:, 0] = speed
     psi_w = None
     track_n, track_e, offset = [eta[:, 0].copy()], [eta[:, 1].copy()], []
     cl, sl = np.cos(line), np.sin(line)
@@ -239,14 +335,19 @@ def _loop_section(sc: DemoScenario, craft: CraftParams, comps: WaveComponents,
     heading_err = np.degrees((eta[:, 2] - line + np.pi) % (2 * np.pi) - np.pi)
     lines = [
         f"{n} trials x {sc.duration_s:.0f} s of {craft.name} holding {sc.line_heading_deg:.0f} deg at "
-        f"{sc.speed_mps:.1f} m/s (heading-and-speed hold, no cross-track correction)",
-        f"  stream {sc.current_mps:.1f} m/s setting {sc.current_set_deg:.0f} deg; each trial its own sea",
+        f"{speed:.2f} m/s surge (heading-and-speed hold sized from the craft; no cross-track correction)",
+        f"  uniform current {sc.current_mps:.1f} m/s setting {sc.current_set_deg:.0f} deg; each trial its own sea",
         f"  distance along the line after {sc.duration_s:.0f} s: mean {along[:, -1].mean():.0f} m",
         f"  set off the line after {sc.duration_s:.0f} s: mean {final.mean():.1f} m, "
         f"5-95 % range {np.percentile(final, 5):.1f} to {np.percentile(final, 95):.1f} m",
         f"  final heading error: mean {heading_err.mean():.2f} deg, sd {heading_err.std():.2f} deg",
         "  (a line-following guide that removes this offset comes with the trial runner)",
     ]
+    if np.mean(np.abs(heading_err)) > 20.0:
+        lines.append(
+            f"  WARNING: {craft.name} cannot hold its heading here: the wave drift and the current "
+            "exceed what its propulsion can counter (the hold saturates); this sea is beyond the craft."
+        )
     t = np.arange(tn.shape[1]) * dt * chunk
     shown = range(min(n, 25))
     fig_tracks = line_chart(
@@ -282,9 +383,10 @@ def run_demo(scenario: DemoScenario | None = None, *, progress: bool = True) -> 
     spec = SeaSpectrum(kind="jonswap", hs_m=sc.hs_m, tp_s=sc.tp_s)
     spread = DirectionalSpreading(kind="cos2s", exponent=sc.spreading_s, mean_dir_deg=sc.wave_from_deg)
     comps = realise_sea(spec, spread, TrialStreams(sc.seed, range(sc.n_trials)), n_components=100)
+    speed = sc.ordered_speed(craft)
     sea_text, f1 = _sea_section(sc, spec, comps)
-    motion_text, f2 = _motion_section(sc, craft, spec, spread, comps)
-    loop_text, f3 = _loop_section(sc, craft, comps, progress)
+    motion_text, f2 = _motion_section(sc, craft, speed, spec, spread, comps)
+    loop_text, f3 = _loop_section(sc, craft, speed, comps, progress)
     report = manoeuvring_report(craft)
     tc = report.turning
     fig_turn = line_chart(

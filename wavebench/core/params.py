@@ -169,7 +169,7 @@ def check_value(name: str, value: Any, bounds: Bounds) -> Any:
         raise ParameterError(name, value, bounds.describe())
     arr = raw.astype(float)
     if bounds.violated(arr):
-        raise ParameterError(name, value if arr.ndim else float(arr), bounds.describe())
+        raise ParameterError(name, value, bounds.describe())
     if arr.ndim == 0:
         return int(arr) if bounds.integer else float(arr)
     arr.setflags(write=False)

@@ -14,6 +14,13 @@ with :func:`wavebench.craft.hull.derivative` and
 :func:`wavebench.sea.drift.drift_force`; it is the kernel's test oracle
 (agreement to 1e-9 m over 600 s is checked in ``tests/test_kernel.py``).
 
+Reproducibility: the kernel gives the same bits for a trial alone, in any
+batch and however a run is split into calls, on a given machine. It is
+compiled for the host CPU with reassociated sums (``fastmath`` reassoc and
+contract, so the component loops vectorise); on a CPU with another vector
+width or without FMA the last bits can differ (numpy's own SIMD dispatch has
+the same property), which is why results record the machine they ran on.
+
 Model choices shared by both
 ----------------------------
 * RK4 with ``tau_ext``, the current and the pilot's output held over a step
@@ -31,6 +38,7 @@ Model choices shared by both
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numba
@@ -41,7 +49,7 @@ from ..core.errors import ParameterError
 from ..core.trig import sincos
 from ..sea.drift import DriftModel, drift_force
 from ..sea.realisation import WaveComponents
-from .hull import HullCoefficients, HullParams, derivative, hull_coefficients
+from .hull import HullCoefficients, HullParams, derivative, hull_coefficients, param_batch_size
 
 __all__ = ["DRIFT_SAMPLINGS", "HoldPilot", "Plant", "advance", "advance_reference"]
 
@@ -84,6 +92,14 @@ class HoldPilot:
     k_r: NDArray[np.float64]
     x_max_n: NDArray[np.float64]
     n_max_nm: NDArray[np.float64]
+
+    def __post_init__(self) -> None:
+        for f in dataclasses.fields(self):
+            a = np.asarray(getattr(self, f.name), dtype=float)
+            if a.ndim > 1 or not np.all(np.isfinite(a)):
+                raise ParameterError(f.name, a, "must be finite, a scalar or an array of shape (n_trials,)")
+            if f.name not in ("u_ref_mps", "psi_ref_rad") and np.any(a < 0.0):
+                raise ParameterError(f.name, a, "must be >= 0 (gains and limits are magnitudes)")
 
     def packed(self, n_trials: int) -> NDArray[np.float64]:
         """Pilot parameters as an array of shape (n_trials, 7)."""
@@ -145,6 +161,14 @@ class Plant:
         drift_sampling: str = "midpoint",
     ) -> Plant:
         """Check shapes and precompute the hull coefficients."""
+        if isinstance(n_trials, bool) or not isinstance(n_trials, (int, np.integer)) or n_trials < 1:
+            raise ParameterError("n_trials", n_trials, "must be an integer >= 1")
+        if isinstance(hull, HullParams):
+            size = param_batch_size(hull)
+            if size is not None and size != n_trials:
+                raise ParameterError(
+                    "hull", size, f"per-trial hull parameters must have length n_trials = {n_trials}"
+                )
         if (components is None) != (drift is None):
             raise ParameterError("drift", drift, "give both components and drift, or neither")
         if components is not None and components.n_trials != n_trials:
@@ -272,10 +296,12 @@ def _prepare(plant, eta, nu, step0, dt_s, n_steps, tau_ext, current_ned, drift_h
     cur_a = np.zeros((n, 2)) if current_ned is None else _as_state(current_ned, n, 2, "current_ned")
     if not dt_s > 0.0:
         raise ParameterError("dt_s", dt_s, "must be a finite number > 0")
-    if int(n_steps) < 0:
-        raise ParameterError("n_steps", n_steps, "must be an integer >= 0")
-    if int(step0) < 0:
-        raise ParameterError("step0", step0, "must be an integer >= 0")
+    for name, value in (("n_steps", n_steps), ("step0", step0)):
+        if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < 0:
+            raise ParameterError(name, value, "must be an integer >= 0")
+    for name, arr in (("eta", eta_a), ("nu", nu_a), ("tau_ext", tau_a), ("current_ned", cur_a)):
+        if not np.all(np.isfinite(arr)):
+            raise ParameterError(name, arr, "must be finite")
     if drift_heading_rad is None:
         psi_w = eta_a[:, 2].copy()
     else:
@@ -334,7 +360,7 @@ def _drift_eval(
 @numba.njit(inline="always", cache=True)
 def _hull_rhs(h: np.ndarray, psi: float, u: float, v: float, r: float, tx: float, ty: float, tn: float,
               vcn: float, vce: float) -> tuple[float, float, float, float, float, float]:  # fmt: skip
-    """Scalar transcription of :func:`wavebench.craft.hull.derivative`."""
+    """Scalar form of :func:`wavebench.craft.hull.derivative` (same arithmetic)."""
     cpsi = np.cos(psi)
     spsi = np.sin(psi)
     uc = cpsi * vcn + spsi * vce
