@@ -67,8 +67,8 @@ def build(n: int, k: int, sampling: str, seed: int = 1) -> tuple[Plant, HoldPilo
 
 def per_trial_loop(plant: Plant, pilot: HoldPilot, current: np.ndarray, i: int, n_steps: int) -> np.ndarray:
     """The same model for trial ``i`` as a plain Python loop (the slow reference)."""
-    h = plant.packed_hull()[i]
-    waves, roots = plant.packed_waves()
+    h = plant.packed_hull[i]
+    waves, roots = plant.packed_waves
     om, kc, ks, ep, scale, beta = (waves[i, r] for r in range(6))
     p = pilot.packed(plant.n_trials)[i]
     tol = plant.drift_heading_tol_rad

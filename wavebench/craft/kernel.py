@@ -39,6 +39,7 @@ Model choices shared by both
 from __future__ import annotations
 
 import dataclasses
+import functools
 from dataclasses import dataclass
 
 import numba
@@ -186,13 +187,15 @@ class Plant:
             drift_sampling=drift_sampling,
         )
 
+    @functools.cached_property
     def packed_hull(self) -> NDArray[np.float64]:
-        """Hull coefficient columns as an array of shape (n_trials, 16)."""
+        """Hull coefficient columns as an array of shape (n_trials, 16) (computed once)."""
         cols = [np.broadcast_to(np.asarray(getattr(self.hull, k), dtype=float), (self.n_trials,)) for k in _COEF_NAMES]
         return np.ascontiguousarray(np.stack(cols, axis=1))
 
+    @functools.cached_property
     def packed_waves(self) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
-        """Per-component constants (n_trials, 6, K) and the root table (B+1, 6).
+        """Per-component constants (n_trials, 6, K) and the root table (B+1, 6), computed once.
 
         Rows of the first array: omega, k cos(beta), k sin(beta), phase,
         a R (see :meth:`DriftModel.scale`), beta.
@@ -280,9 +283,9 @@ def advance(
     )
     use_pilot = pilot is not None
     pil = pilot.packed(n) if pilot is not None else np.zeros((n, 7))
-    waves, roots = plant.packed_waves()
+    waves, roots = plant.packed_waves
     _advance_kernel(
-        eta_a, nu_a, psi_w, tau_a, cur_a, plant.packed_hull(), waves, roots, pil, use_pilot,
+        eta_a, nu_a, psi_w, tau_a, cur_a, plant.packed_hull, waves, roots, pil, use_pilot,
         int(step0), float(dt_s), int(n_steps), plant.drift_heading_tol_rad, plant.drift_sampling == "midpoint",
     )  # fmt: skip
     return eta_a, nu_a, psi_w
