@@ -1,0 +1,179 @@
+"""Reading, writing and hashing spec files.
+
+:func:`load_spec` parses TOML (``tomllib``, or ``tomli`` before Python 3.11)
+and validates it into a frozen :class:`~wavebench.spec.schema.Spec`;
+:func:`dump_spec` writes the canonical TOML text back (tables in schema
+order, distributions as inline tables, literals formatted by ``tomli_w``).
+Load -> dump -> load gives an equal object, and the text is stable after one
+round. No code is ever evaluated: a spec is plain data.
+
+:func:`spec_hash` identifies a spec by content.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+import sys
+from pathlib import Path
+from typing import Any
+
+import tomli_w
+
+from ..core.errors import ParameterError
+from ..core.params import Params
+from .distributions import distribution_to_data
+from .schema import _DIST_TYPES, Spec, _Table, spec_from_data, spec_to_data
+
+if sys.version_info >= (3, 11):
+    import tomllib
+else:  # pragma: no cover
+    import tomli as tomllib
+
+__all__ = ["dump_spec", "example_spec_names", "example_spec_path", "load_spec", "save_spec", "spec_hash"]
+
+_SPECS_DIR = Path(__file__).resolve().parent.parent / "data" / "specs"
+
+
+def example_spec_names() -> list[str]:
+    """Names of the built-in example specs (files in ``wavebench/data/specs``)."""
+    return sorted(p.stem for p in _SPECS_DIR.glob("*.toml"))
+
+
+def example_spec_path(name: str) -> Path:
+    """Path of a built-in example spec, e.g. ``example_spec_path("skerrow_sound")``."""
+    names = example_spec_names()
+    if name not in names:
+        raise ParameterError("example", name, f"must be one of {names}")
+    return _SPECS_DIR / f"{name}.toml"
+
+
+def load_spec(source: str | os.PathLike[str]) -> Spec:
+    """Load and validate a spec.
+
+    Parameters
+    ----------
+    source : str or path-like
+        A path (``os.PathLike``, or a one-line string ending in ``.toml``) or
+        the TOML text itself.
+
+    Returns
+    -------
+    Spec
+        The frozen, validated spec.
+
+    Raises
+    ------
+    ParameterError
+        For text that is not TOML, and for every schema violation, naming the
+        TOML path of the offending field (see
+        :func:`~wavebench.spec.schema.spec_from_data`).
+    """
+    if isinstance(source, os.PathLike) or ("\n" not in source and source.strip().endswith(".toml")):
+        path = Path(source)
+        if not path.is_file():
+            raise ParameterError("spec", str(path), "no such spec file")
+        text = path.read_text(encoding="utf-8")
+        where = str(path)
+    else:
+        text, where = str(source), "spec"
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise ParameterError(where, "<text>", f"is not valid TOML: {exc}") from None
+    return spec_from_data(data)
+
+
+def _literal(value: Any) -> str:
+    """One TOML literal (number, string, one-line array), formatted by tomli_w."""
+    if isinstance(value, (list, tuple)):
+        return "[" + ", ".join(_literal(v) for v in value) + "]"
+    line = tomli_w.dumps({"v": value})
+    return line[len("v = ") :].rstrip("\n")
+
+
+def _inline(data: dict[str, Any]) -> str:
+    parts = [f"{k} = {_inline(v) if isinstance(v, dict) else _literal(v)}" for k, v in data.items()]
+    return "{ " + ", ".join(parts) + " }"
+
+
+def _emit(obj: Any, name: str, out: list[str]) -> None:
+    if isinstance(obj, Params):
+        from ..core.params import params_to_dict
+
+        items = list(params_to_dict(obj).items())
+    else:
+        items = [(f, getattr(obj, f)) for f in obj.__dataclass_fields__]
+    lines, tables = [], []
+    for key, value in items:
+        if value is None:
+            continue
+        if isinstance(value, _DIST_TYPES):
+            lines.append(f"{key} = {_inline(distribution_to_data(value))}")
+        elif isinstance(value, (Params, _Table)):
+            tables.append((key, value))
+        else:
+            lines.append(f"{key} = {_literal(value)}")
+    if name:
+        out.append(f"[{name}]")
+    out.extend(lines)
+    for key, value in tables:
+        out.append("")
+        _emit(value, f"{name}.{key}" if name else key, out)
+
+
+def dump_spec(spec: Spec) -> str:
+    """Canonical TOML text of a spec.
+
+    Tables and keys come in schema order, defaults are written out, absent
+    optional values are left out and distributions are inline tables.
+
+    Parameters
+    ----------
+    spec : Spec
+
+    Returns
+    -------
+    str
+        TOML text that :func:`load_spec` reads back to an equal spec.
+    """
+    out: list[str] = []
+    _emit(spec, "", out)
+    return "\n".join(out) + "\n"
+
+
+def save_spec(spec: Spec, path: str | os.PathLike[str]) -> None:
+    """Write :func:`dump_spec` text to ``path`` (UTF-8)."""
+    Path(path).write_text(dump_spec(spec), encoding="utf-8")
+
+
+def canonical_json(spec: Spec) -> str:
+    """The canonical JSON serialisation hashed by :func:`spec_hash`."""
+    return json.dumps(spec_to_data(spec), sort_keys=True, separators=(",", ":"), ensure_ascii=True)
+
+
+def spec_hash(spec: Spec) -> str:
+    """Content hash of a spec: hex SHA-256 of its canonical JSON.
+
+    Notes
+    -----
+    The canonical JSON is ``json.dumps(data, sort_keys=True,
+    separators=(",", ":"), ensure_ascii=True)`` of the validated spec's plain
+    data (:func:`~wavebench.spec.schema.spec_to_data`), so:
+
+    * key order, whitespace, comments and number spelling in the file do
+      not matter (``2``, ``2.0`` and ``2e0`` for a float field are the same
+      float; floats are written by ``float.__repr__``, the shortest text
+      that reads back to the same double; infinity as ``Infinity``);
+    * defaults are filled in before hashing, so writing a default
+      explicitly or leaving it out gives the same hash;
+    * every change of a value, a distribution or its parameters changes
+      the hash.
+
+    Returns
+    -------
+    str
+        64 lowercase hex digits.
+    """
+    return hashlib.sha256(canonical_json(spec).encode("ascii")).hexdigest()
