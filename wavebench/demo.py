@@ -118,13 +118,17 @@ _CHUNK_S = 10.0
 def hold_pilot_for(craft: CraftParams, speed_mps: float, heading_rad: float, n_trials: int) -> HoldPilot:
     """A heading-and-speed hold sized from the craft's own inertia and actuators.
 
-    The surge loop has a 5 s time constant (gain ``m11 / 5 s``) and the heading
-    loop a natural frequency of 0.5 rad/s with damping from the yaw-rate gain
-    (``k_psi = m33 w^2``, ``k_r = 0.3 m33 w``; our own choice, no source). The
-    force and moment demands are limited to what the propulsion can give at
-    the ordered speed: full ahead/astern thrust in surge; for a twin-hull, one
-    thruster ahead and one astern in yaw; for a propeller-rudder craft, the
-    moment of the rudder hard over in the slipstream at the ordered speed.
+    The force and moment demands are limited to what the propulsion can give
+    at the ordered speed: full ahead/astern thrust in surge; for a twin-hull,
+    one thruster ahead and one astern in yaw; for a propeller-rudder craft,
+    the moment of the rudder hard over in the slipstream at the ordered speed.
+    The surge loop has a 5 s time constant (gain ``m11 / 5 s``). The heading
+    gain uses the whole yaw moment at 10 deg of error
+    (``k_psi = N_max / 10 deg``) and the yaw-rate gain brings the closed loop
+    ``m33 r_dot = -(|N_r| + k_r) r - k_psi e`` to a damping ratio of 0.8
+    (``k_r = max(0, 1.6 sqrt(k_psi m33) - |N_r|)``). Our own sizing rule, no
+    source; integral action (and so zero steady error) comes with the
+    product's autopilots.
 
     Parameters
     ----------
@@ -143,7 +147,6 @@ def hold_pilot_for(craft: CraftParams, speed_mps: float, heading_rad: float, n_t
     hull, prop = craft.hull, craft.propulsion
     m11 = float(hull.mass_kg - hull.x_udot)
     m33 = float(hull.izz_kgm2 - hull.n_rdot)
-    w = 0.5
     if isinstance(prop, DifferentialThrustParams):
         x_max = float(max_thrust(prop.port) + max_thrust(prop.starboard))
         n_max = float(
@@ -156,10 +159,12 @@ def hold_pilot_for(craft: CraftParams, speed_mps: float, heading_rad: float, n_t
         nu_r = np.array([[speed_mps, 0.0, 0.0]])
         tau = prop_rudder_forces(prop, n_rps, np.radians([float(prop.rudder_max_deg)]), nu_r)
         n_max = float(abs(tau[0, 2]))
+    k_psi = n_max / np.radians(10.0)
+    k_r = max(0.0, 1.6 * np.sqrt(k_psi * m33) - abs(float(hull.n_r)))
     ones = np.ones(n_trials)
     return HoldPilot(
         u_ref_mps=speed_mps * ones, psi_ref_rad=heading_rad * ones, k_u=m11 / 5.0 * ones,
-        k_psi=m33 * w * w * ones, k_r=0.3 * m33 * w * ones, x_max_n=x_max * ones, n_max_nm=n_max * ones,
+        k_psi=k_psi * ones, k_r=k_r * ones, x_max_n=x_max * ones, n_max_nm=n_max * ones,
     )  # fmt: skip
 
 
