@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import copy
 import math
-import tomllib
+import sys
 
 import numpy as np
 import pytest
@@ -32,6 +32,11 @@ from wavebench.spec import (
     spec_from_data,
     spec_hash,
 )
+
+if sys.version_info >= (3, 11):
+    import tomllib
+else:  # pragma: no cover
+    import tomli as tomllib
 
 BASE: dict = {
     "spec_version": 1,
