@@ -1,5 +1,6 @@
 """The spec layer: versioned TOML specs with distributions, round trip and content hash."""
 
+from .build import TrialCurrent, TrialEnvironment, TrialWind, build_environment
 from .distributions import Choice, LogNormal, Normal, TruncatedNormal, Uniform, parse_distribution
 from .draws import draw_trial_parameters
 from .io import dump_spec, example_spec_names, example_spec_path, load_spec, save_spec, spec_hash
@@ -32,9 +33,13 @@ __all__ = [
     "SeaSpec",
     "Spec",
     "SpreadingSpec",
+    "TrialCurrent",
+    "TrialEnvironment",
+    "TrialWind",
     "TruncatedNormal",
     "Uniform",
     "WindSpec",
+    "build_environment",
     "distributed_fields",
     "draw_trial_parameters",
     "dump_spec",
