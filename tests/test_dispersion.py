@@ -171,3 +171,14 @@ def test_rejects_bad_frequency_and_period():
         wavelength(0.0, 10.0)
     with pytest.raises(ParameterError, match="g ="):
         wavenumber(1.0, 10.0, g=-9.81)
+
+
+def test_each_wavenumber_is_independent_of_its_batch():
+    # reproducibility rule of the project: trial i alone equals trial i in a batch,
+    # so an element's Newton iterations must not depend on its neighbours
+    rng = np.random.default_rng(5)
+    omega = rng.uniform(0.05, 4.0, 400)
+    depth = rng.uniform(0.5, 200.0, 400)
+    batch = wavenumber(omega, depth)
+    alone = np.array([wavenumber(omega[i : i + 1], depth[i : i + 1])[0] for i in range(400)])
+    assert np.array_equal(batch, alone)

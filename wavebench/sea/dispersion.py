@@ -100,8 +100,9 @@ def wavenumber(omega: ArrayLike, depth_m: ArrayLike = np.inf, g: float = G) -> A
     -----
     With x = k h and y = omega^2 h / g the relation is x tanh x = y. Newton
     iterations on x start from the Fenton & McKee (1990) explicit value
-    ``x0 = y / tanh(y^(3/4))^(2/3)`` (within 1.7 %) and stop when every
-    step is below 1e-14 relative. For y >= 20 (then x > 20, tanh x = 1 in
+    ``x0 = y / tanh(y^(3/4))^(2/3)`` (within 1.7 %); each element stops when
+    its own step is below 1e-14 relative, so a value never depends on the
+    other elements it is computed with. For y >= 20 (then x > 20, tanh x = 1 in
     double precision) and for h = inf the deep-water value k = omega^2/g is
     exact. omega = 0 gives k = 0.
 
@@ -123,13 +124,17 @@ def wavenumber(omega: ArrayLike, depth_m: ArrayLike = np.inf, g: float = G) -> A
     if np.any(solve):
         ys = y[solve]
         x = ys / np.tanh(ys**0.75) ** (2.0 / 3.0)
+        # Each element stops at its own convergence, so its value does not
+        # depend on the other elements of the batch (bit for bit).
+        active = np.arange(x.size)
         for _ in range(_MAX_ITER):
-            t = np.tanh(x)
-            f = x * t - ys
-            df = t + x * (1.0 - t * t)
-            dx = f / df
-            x = x - dx
-            if np.all(np.abs(dx) <= _REL_TOL * x):
+            xa = x[active]
+            t = np.tanh(xa)
+            dx = (xa * t - ys[active]) / (t + xa * (1.0 - t * t))
+            xa = xa - dx
+            x[active] = xa
+            active = active[np.abs(dx) > _REL_TOL * xa]
+            if active.size == 0:
                 break
         k[solve] = x / h[solve]
     return _out(k.reshape(shape))
