@@ -10,11 +10,14 @@ from scipy.optimize import brentq
 from wavebench.core.errors import ParameterError
 from wavebench.guidance import (
     LosParams,
+    SurveyParams,
     along_track_and_cross_track,
     course_to_heading,
     los_init,
     los_step,
     make_path,
+    survey_lines,
+    survey_waypoints,
 )
 
 # ---------------------------------------------------------------- path geometry
@@ -210,3 +213,105 @@ def test_fewer_than_two_waypoints_rejected():
         make_path(np.zeros((2, 3, 2)), counts=[3, 1])
     with pytest.raises(ParameterError, match="waypoints"):
         make_path(np.zeros((2, 3)))
+
+
+# ---------------------------------------------------------------- survey pattern
+
+
+def _inside_convex(poly, pts, tol=1e-9):
+    """Hand geometry: a point is inside a CCW convex polygon when it is left of every edge."""
+    a = poly
+    b = np.roll(poly, -1, axis=0)
+    ab = b - a
+    ap = pts[:, None, :] - a[None, :, :]
+    cross = ab[None, :, 0] * ap[:, :, 1] - ab[None, :, 1] * ap[:, :, 0]
+    return np.all(cross >= -tol, axis=1)
+
+
+def test_survey_square_hand_geometry():
+    # Hand geometry: a 100 m x 100 m square, north-going lines 10 m apart, centred across
+    # the width -> lines at east = 5, 15, ..., 95, each from north 0 to north 100,
+    # alternately north-going and south-going.
+    sq = [[0.0, 0.0], [100.0, 0.0], [100.0, 100.0], [0.0, 100.0]]
+    lines = survey_lines(sq, SurveyParams(line_spacing_m=10.0, line_heading_deg=0.0))
+    assert lines.shape == (10, 2, 2)
+    np.testing.assert_allclose(lines[:, 0, 1], np.arange(5.0, 100.0, 10.0), atol=1e-9)
+    np.testing.assert_allclose(lines[:, 1, 1], np.arange(5.0, 100.0, 10.0), atol=1e-9)
+    starts = np.where(np.arange(10) % 2 == 0, 0.0, 100.0)
+    np.testing.assert_allclose(lines[:, 0, 0], starts, atol=1e-9)
+    np.testing.assert_allclose(lines[:, 1, 0], 100.0 - starts, atol=1e-9)
+
+
+def test_survey_triangle_ends_on_hypotenuse():
+    # Hand geometry: triangle (0,0), (100,0), (0,100) in (north, east). A north-going line at
+    # east = c enters at north 0 and leaves on the hypotenuse north + east = 100, at north = 100 - c.
+    tri = [[0.0, 0.0], [100.0, 0.0], [0.0, 100.0]]
+    lines = survey_lines(tri, SurveyParams(line_spacing_m=20.0, line_heading_deg=0.0))
+    c = lines[:, 0, 1]
+    np.testing.assert_allclose(c, [10.0, 30.0, 50.0, 70.0, 90.0], atol=1e-9)
+    far = np.max(lines[:, :, 0], axis=1)
+    near = np.min(lines[:, :, 0], axis=1)
+    np.testing.assert_allclose(far, 100.0 - c, atol=1e-9)
+    np.testing.assert_allclose(near, 0.0, atol=1e-9)
+
+
+@pytest.mark.parametrize("heading_deg", [0.0, 30.0, 135.0, -75.0])
+def test_survey_spacing_inside_and_alternating(heading_deg):
+    # Hand geometry on an invented convex hexagon (vertices given clockwise):
+    # consecutive lines are `spacing` apart measured along the across-track normal
+    # n = (-sin h, cos h); every waypoint lies in the polygon (left of every CCW edge);
+    # the direction of consecutive lines alternates (unit directions sum to zero).
+    hexagon = np.array([[0.0, 0.0], [-40.0, 80.0], [30.0, 190.0], [160.0, 170.0], [210.0, 60.0], [120.0, -20.0]])
+    spacing = 17.0
+    params = SurveyParams(line_spacing_m=spacing, line_heading_deg=heading_deg)
+    lines = survey_lines(hexagon, params)
+    wps = survey_waypoints(hexagon, params)
+    assert wps.shape == (2 * lines.shape[0], 2)
+    assert lines.shape[0] >= 5
+    h = np.deg2rad(heading_deg)
+    d = np.array([np.cos(h), np.sin(h)])
+    n = np.array([-np.sin(h), np.cos(h)])
+    mids = lines.mean(axis=1)
+    np.testing.assert_allclose(np.diff(mids @ n), spacing, rtol=1e-12)
+    # each line is parallel to d: both ends have the same across-track coordinate
+    np.testing.assert_allclose(lines[:, 0] @ n, lines[:, 1] @ n, atol=1e-9)
+    ccw = hexagon[::-1]
+    assert np.all(_inside_convex(ccw, wps, tol=1e-6))
+    # ends lie ON the boundary: the minimum distance to an edge line is ~0
+    a, b = ccw, np.roll(ccw, -1, axis=0)
+    ab = b - a
+    ap = wps[:, None, :] - a[None]
+    dist = np.abs(ab[None, :, 0] * ap[:, :, 1] - ab[None, :, 1] * ap[:, :, 0]) / np.linalg.norm(ab, axis=1)
+    np.testing.assert_allclose(dist.min(axis=1), 0.0, atol=1e-6)
+    run = (lines[:, 1] - lines[:, 0]) @ d
+    assert np.all(run[0::2] > 0.0) and np.all(run[1::2] < 0.0)
+
+
+def test_survey_waypoints_feed_a_path():
+    sq = [[0.0, 0.0], [100.0, 0.0], [100.0, 100.0], [0.0, 100.0]]
+    wps = survey_waypoints(sq, SurveyParams(line_spacing_m=25.0, line_heading_deg=90.0))
+    path = make_path(wps, n_trials=3)
+    assert path.waypoints.shape == (3, 8, 2) and path.count.tolist() == [8, 8, 8]
+
+
+@pytest.mark.parametrize(
+    ("kwargs", "field"),
+    [
+        ({"line_spacing_m": 0.0}, "line_spacing_m"),
+        ({"line_spacing_m": -5.0}, "line_spacing_m"),
+        ({"line_heading_deg": float("nan")}, "line_heading_deg"),
+    ],
+)
+def test_bad_survey_params_name_the_field(kwargs, field):
+    with pytest.raises(ParameterError, match=field):
+        SurveyParams(**kwargs)
+
+
+def test_non_convex_or_degenerate_polygon_rejected():
+    dart = [[0.0, 0.0], [100.0, 50.0], [0.0, 100.0], [30.0, 50.0]]
+    with pytest.raises(ParameterError, match="polygon"):
+        survey_lines(dart, SurveyParams(line_spacing_m=10.0))
+    with pytest.raises(ParameterError, match="polygon"):
+        survey_lines([[0.0, 0.0], [1.0, 1.0]], SurveyParams(line_spacing_m=10.0))
+    with pytest.raises(ParameterError, match="polygon"):
+        survey_lines([[0.0, 0.0], [1.0, 1.0], [2.0, 2.0]], SurveyParams(line_spacing_m=10.0))

@@ -9,18 +9,23 @@ from .path import (
     path_tangential_angle,
     switch_legs,
 )
+from .survey import SurveyParams, check_convex_polygon, survey_lines, survey_waypoints
 
 __all__ = [
     "LosParams",
     "LosState",
+    "SurveyParams",
     "WaypointPath",
     "along_track_and_cross_track",
+    "check_convex_polygon",
     "course_to_heading",
     "leg_endpoints",
     "los_init",
     "los_step",
     "make_path",
     "path_tangential_angle",
+    "survey_lines",
+    "survey_waypoints",
     "switch_legs",
     "wrap_angle",
 ]

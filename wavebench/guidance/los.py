@@ -125,9 +125,7 @@ def los_step(
     """
     north = np.asarray(north, dtype=float)
     east = np.asarray(east, dtype=float)
-    leg, done, switched = switch_legs(
-        path, state.leg, state.done, north, east, params.acceptance_radius_m
-    )
+    leg, done, switched = switch_legs(path, state.leg, state.done, north, east, params.acceptance_radius_m)
     e_int = np.where(switched, 0.0, np.asarray(state.e_int, dtype=float))
     _, e = along_track_and_cross_track(path, leg, north, east)
     pi_p = path_tangential_angle(path, leg)

@@ -65,9 +65,7 @@ class WaypointPath:
         return self.count - 2
 
 
-def make_path(
-    waypoints: ArrayLike, counts: ArrayLike | None = None, *, n_trials: int | None = None
-) -> WaypointPath:
+def make_path(waypoints: ArrayLike, counts: ArrayLike | None = None, *, n_trials: int | None = None) -> WaypointPath:
     """Build a :class:`WaypointPath` from a shared or per-trial waypoint array.
 
     Parameters
