@@ -313,5 +313,10 @@ def test_non_convex_or_degenerate_polygon_rejected():
         survey_lines(dart, SurveyParams(line_spacing_m=10.0))
     with pytest.raises(ParameterError, match="polygon"):
         survey_lines([[0.0, 0.0], [1.0, 1.0]], SurveyParams(line_spacing_m=10.0))
+    # Pentagram: every turn is the same way, but it winds twice (self-intersecting).
+    ang = np.deg2rad(np.arange(0, 720, 144))
+    star = np.stack([np.cos(ang), np.sin(ang)], axis=1) * 100.0
+    with pytest.raises(ParameterError, match="polygon"):
+        survey_lines(star, SurveyParams(line_spacing_m=10.0))
     with pytest.raises(ParameterError, match="polygon"):
         survey_lines([[0.0, 0.0], [1.0, 1.0], [2.0, 2.0]], SurveyParams(line_spacing_m=10.0))

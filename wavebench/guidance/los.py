@@ -113,7 +113,9 @@ def los_step(
     with ``sigma > 0`` the integral LOS of Børhaug, Pavlov & Pettersen (2008),
     which removes the steady cross-track offset under a constant current.
     ``e_int`` is reset to zero when the active leg changes (common practice,
-    no source). ``e_int`` is integrated only for ``sigma > 0``.
+    no source). ``e_int`` is integrated only for ``sigma > 0``. Once ``done``
+    is set the guide keeps steering along the extension of the last leg; the
+    caller decides what a finished trial does.
 
     References
     ----------

@@ -77,6 +77,13 @@ def check_convex_polygon(polygon: ArrayLike) -> np.ndarray:
         raise ParameterError("polygon", p, "a convex polygon with vertices in order")
     if np.sum(np.abs(cross)) <= _TOL * scale:
         raise ParameterError("polygon", p, "a polygon with non-zero area")
+    # Turns all one way is not enough: a pentagram has that too. A simple convex
+    # polygon turns through exactly one full circle.
+    d_next = np.roll(d, -1, axis=0)
+    dot = d[:, 0] * d_next[:, 0] + d[:, 1] * d_next[:, 1]
+    turning = np.sum(np.arctan2(cross, dot))
+    if abs(abs(turning) - 2.0 * np.pi) > 1e-6:
+        raise ParameterError("polygon", p, "a simple (not self-intersecting) convex polygon")
     return ccw
 
 
