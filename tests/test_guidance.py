@@ -213,6 +213,10 @@ def test_fewer_than_two_waypoints_rejected():
         make_path(np.zeros((2, 3, 2)), counts=[3, 1])
     with pytest.raises(ParameterError, match="waypoints"):
         make_path(np.zeros((2, 3)))
+    with pytest.raises(ParameterError, match="counts"):
+        make_path(np.zeros((2, 3, 2)), counts=[3, 4])
+    with pytest.raises(ParameterError, match="counts"):
+        make_path(np.zeros((2, 3, 2)), counts=[3, 3, 3])
 
 
 # ---------------------------------------------------------------- survey pattern

@@ -98,8 +98,10 @@ def make_path(waypoints: ArrayLike, counts: ArrayLike | None = None, *, n_trials
         cnt = np.full(n, w, dtype=np.int64)
     else:
         raw = np.asarray(counts)
+        if raw.dtype.kind not in "iu" or raw.shape not in ((), (n,)):
+            raise ParameterError("counts", raw, f"whole numbers, a scalar or shape ({n},)")
         cnt = np.broadcast_to(raw, (n,)).astype(np.int64)
-        if raw.dtype.kind not in "iu" or np.any(cnt > w):
+        if np.any(cnt > w):
             raise ParameterError("counts", raw, f"whole numbers <= the padded length W = {w}")
     if np.any(cnt < 2):
         raise ParameterError("waypoints", wp, "at least 2 waypoints per trial (one leg)")
