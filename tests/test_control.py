@@ -230,3 +230,90 @@ def test_pid_bad_params_name_the_field():
         heading_pid_gains(0.5, -2.0, natural_frequency_rad_s=1.0, damping_ratio=0.5, output_max=0.5)
     with pytest.raises(ParameterError, match="dt"):
         pid_step(PidParams(kp=1.0, output_max=1.0), pid_init(1), [0.0], [0.0], 0.0)
+
+
+# ---------------------------------------------------------------------------
+# Reference model
+
+from scipy import signal  # noqa: E402
+
+from wavebench.control.reference import (  # noqa: E402
+    ReferenceParams,
+    reference_init,
+    reference_step,
+)
+
+
+def _run_reference(params, psi0, psi_ref, dt, n_steps):
+    state = reference_init(psi0)
+    out = []
+    for _ in range(n_steps):
+        state, o = reference_step(params, state, psi_ref, dt)
+        out.append((o.psi_d, o.r_d, o.a_d))
+    return np.array(out)  # (n_steps, 3, n_trials)
+
+
+@pytest.mark.parametrize(("wn", "zeta"), [(0.5, 1.0), (1.2, 0.7), (0.2, 0.9)])
+def test_reference_linear_step_matches_scipy_lti(wn, zeta):
+    # Fossen (2021), reference models: psi_d/psi_ref =
+    # w_n^3 / ((s + w_n)(s^2 + 2 zeta w_n s + w_n^2)); step response by
+    # scipy.signal.lti/step (reference library); r_d and a_d from s G and s^2 G.
+    dt, n_steps = 0.01, 3000
+    den = np.polymul([1.0, wn], [1.0, 2.0 * zeta * wn, wn**2])
+    t = dt * np.arange(n_steps + 1)  # signal.step starts at t[0]
+    step = 0.8
+    out = _run_reference(ReferenceParams(natural_frequency_rad_s=wn, damping_ratio=zeta), [0.0], [step], dt, n_steps)
+    for i, num in enumerate(([wn**3], [wn**3, 0.0], [wn**3, 0.0, 0.0])):
+        _, y = signal.step(signal.lti(num, den), T=t)
+        np.testing.assert_allclose(out[:, i, 0], step * y[1:], atol=1e-7)
+
+
+def test_reference_rate_and_accel_limits():
+    # Saturated model: |r_d| <= r_max and |a_d| <= a_max at every step; on a long
+    # turn psi_d rises at r_max (rate-limited cruise), and it still reaches the
+    # command with no overshoot beyond 1 % (critically damped, zeta = 1).
+    r_max, a_max = np.radians(3.0), np.radians(1.0)
+    p = ReferenceParams(natural_frequency_rad_s=0.5, damping_ratio=1.0, rate_max_rad_s=r_max, accel_max_rad_s2=a_max)
+    dt, n_steps = 0.05, 4000
+    out = _run_reference(p, [0.0], [np.radians(90.0)], dt, n_steps)
+    assert np.max(np.abs(out[:, 1, 0])) <= r_max * (1 + 1e-12)
+    assert np.max(np.abs(out[:, 2, 0])) <= a_max * (1 + 1e-12)
+    cruise = np.abs(out[:, 1, 0] - r_max) < 1e-12
+    assert cruise.sum() * dt > 10.0
+    assert abs(out[-1, 0, 0] - np.radians(90.0)) < 1e-6
+    assert np.max(out[:, 0, 0]) < np.radians(90.0) * 1.01
+    # unsaturated model on the same command turns far faster than r_max
+    lin = _run_reference(ReferenceParams(natural_frequency_rad_s=0.5), [0.0], [np.radians(90.0)], dt, 400)
+    assert np.max(lin[:, 1, 0]) > 3 * r_max
+
+
+def test_reference_batch_slicing():
+    p = ReferenceParams(
+        natural_frequency_rad_s=np.array([0.3, 0.8, 1.5]),
+        damping_ratio=np.array([1.0, 0.7, 0.9]),
+        rate_max_rad_s=np.array([0.05, np.inf, 0.2]),
+        accel_max_rad_s2=np.array([0.01, 0.1, np.inf]),
+    )
+    psi0 = np.array([0.1, -1.0, 3.0])
+    ref = np.array([1.0, 0.5, -2.0])
+    batch = _run_reference(p, psi0, ref, 0.1, 200)
+    for i in range(3):
+        pi = ReferenceParams(
+            natural_frequency_rad_s=p.natural_frequency_rad_s[i],
+            damping_ratio=p.damping_ratio[i],
+            rate_max_rad_s=p.rate_max_rad_s[i],
+            accel_max_rad_s2=p.accel_max_rad_s2[i],
+        )
+        alone = _run_reference(pi, psi0[i : i + 1], ref[i : i + 1], 0.1, 200)
+        np.testing.assert_array_equal(alone[:, :, 0], batch[:, :, i])
+
+
+def test_reference_bad_params_name_the_field():
+    with pytest.raises(ParameterError, match="natural_frequency_rad_s"):
+        ReferenceParams(natural_frequency_rad_s=0.0)
+    with pytest.raises(ParameterError, match="rate_max_rad_s"):
+        ReferenceParams(natural_frequency_rad_s=1.0, rate_max_rad_s=np.nan)
+    with pytest.raises(ParameterError, match="accel_max_rad_s2"):
+        ReferenceParams(natural_frequency_rad_s=1.0, accel_max_rad_s2=-1.0)
+    with pytest.raises(ParameterError, match="damping_ratio"):
+        ReferenceParams(natural_frequency_rad_s=1.0, damping_ratio=np.array([1.0, -0.1]))
