@@ -5,7 +5,15 @@ frozen :class:`~wavebench.core.params.Params`, state is passed in and returned.
 """
 
 from .nomoto import NomotoFit, fit_nomoto, identify_nomoto, nomoto_step_response
-from .pid import PidParams, PidState, heading_pid_gains, pid_init, pid_step, speed_pi_gains
+from .pid import (
+    PidParams,
+    PidState,
+    heading_pid_gains,
+    nomoto_feedforward,
+    pid_init,
+    pid_step,
+    speed_pi_gains,
+)
 from .reference import (
     HeadingReference,
     ReferenceParams,
@@ -24,6 +32,7 @@ __all__ = [
     "fit_nomoto",
     "heading_pid_gains",
     "identify_nomoto",
+    "nomoto_feedforward",
     "nomoto_step_response",
     "pid_init",
     "pid_step",

@@ -30,6 +30,10 @@ and the integral gain is put a decade below the bandwidth,
 that [1] states it for this design is from memory, not re-checked; it is
 not a closed-loop pole placement).
 
+Feed-forward from the reference model, ``delta_ff = (T a_d + r_d) / K``
+(:func:`nomoto_feedforward`), is added before saturation through the
+``feedforward`` argument of :func:`pid_step`.
+
 Speed PI: surge ``m u_dot + d u = tau`` (``m`` mass incl. added mass [kg],
 ``d`` linear damping [kg/s]) with ``tau = -(kp e + ki z)``, ``e = u - u_d``
 (plus any feed-forward the caller adds) gives ``m s^2 + (d + kp) s + ki``;
@@ -62,6 +66,7 @@ __all__ = [
     "PidParams",
     "PidState",
     "heading_pid_gains",
+    "nomoto_feedforward",
     "pid_init",
     "pid_step",
     "speed_pi_gains",
@@ -94,6 +99,10 @@ class PidParams(Params):
     output_max: float = bounded(gt=0.0, doc="output saturation limit")
     anti_windup: bool = True
 
+    def _check(self) -> None:
+        if not isinstance(self.anti_windup, (bool, np.bool_)):
+            raise ParameterError("anti_windup", self.anti_windup, "must be true or false")
+
 
 @dataclass(frozen=True)
 class PidState:
@@ -122,7 +131,13 @@ def pid_init(n_trials: int) -> PidState:
 
 
 def pid_step(
-    params: PidParams, state: PidState, error: ArrayLike, rate: ArrayLike, dt: float
+    params: PidParams,
+    state: PidState,
+    error: ArrayLike,
+    rate: ArrayLike,
+    dt: float,
+    *,
+    feedforward: ArrayLike = 0.0,
 ) -> tuple[PidState, FloatArray]:
     """Advance the controller one step.
 
@@ -139,12 +154,15 @@ def pid_step(
         zeros for a PI controller.
     dt : float
         Step [s], > 0.
+    feedforward : float or ndarray of shape (n_trials,), optional
+        Term added before saturation (e.g. :func:`nomoto_feedforward`); the
+        anti-windup logic sees the total.
 
     Returns
     -------
     new_state : PidState
     command : ndarray of shape (n_trials,)
-        ``clip(-(kp e + kd rate + ki z), -output_max, output_max)`` with
+        ``clip(u_ff - (kp e + kd rate + ki z), -output_max, output_max)`` with
         ``z`` the integral after this step.
 
     Examples
@@ -160,15 +178,44 @@ def pid_step(
     rd = np.asarray(rate, dtype=float)
     z = state.integral
     umax = params.output_max
-    u_old = -(params.kp * e + params.kd * rd + params.ki * z)
+    ff = np.asarray(feedforward, dtype=float)
+    u_old = ff - (params.kp * e + params.kd * rd + params.ki * z)
     z_new = z + e * dt
     if params.anti_windup:
         # integrating e moves u by -ki e dt: deeper into the upper limit if e < 0
         deeper = ((u_old > umax) & (e < 0.0)) | ((u_old < -umax) & (e > 0.0))
         z_new = np.where(deeper, z, z_new)
-    u = -(params.kp * e + params.kd * rd + params.ki * z_new)
+    u = ff - (params.kp * e + params.kd * rd + params.ki * z_new)
     command = np.clip(u, -umax, umax)
     return PidState(integral=np.asarray(z_new, dtype=float)), np.asarray(command, dtype=float)
+
+
+def nomoto_feedforward(gain_per_s: ArrayLike, time_constant_s: ArrayLike, r_d: ArrayLike, a_d: ArrayLike) -> FloatArray:
+    """Rudder feed-forward that makes the Nomoto model follow ``r_d``, ``a_d``.
+
+    Parameters
+    ----------
+    gain_per_s, time_constant_s : float or ndarray of shape (n_trials,)
+        Nomoto K [1/s] and T [s].
+    r_d, a_d : ndarray of shape (n_trials,)
+        Desired yaw rate [rad/s] and acceleration [rad/s^2] (from the
+        reference model).
+
+    Returns
+    -------
+    ndarray of shape (n_trials,)
+        ``delta_ff = (T a_d + r_d) / K`` [rad]: the inverse of
+        ``T r_dot + r = K delta`` (Fossen 2021, PID autopilot with reference
+        feed-forward).
+
+    Examples
+    --------
+    >>> float(nomoto_feedforward(0.5, 2.0, 0.1, 0.05))
+    0.4
+    """
+    k = _positive("gain_per_s", gain_per_s)
+    tc = _positive("time_constant_s", time_constant_s)
+    return (tc * np.asarray(a_d, dtype=float) + np.asarray(r_d, dtype=float)) / k
 
 
 def heading_pid_gains(
