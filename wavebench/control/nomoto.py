@@ -183,7 +183,10 @@ def identify_nomoto(
     The rudder is not an ideal step: it moves at its rate limit, and the
     craft slows in the turn. The fit is therefore the best first-order
     description of this record, not an exact model; ``rms_residual_rad_s``
-    says how good it is. The record runs until every trial has turned
+    says how good it is. For a differential-thrust craft ``delta`` is the
+    rudder-equivalent of :mod:`wavebench.craft.manoeuvres` (a fraction
+    ``delta / 35 deg`` of the largest yaw moment), so ``K`` is per radian of
+    that equivalent. The record runs until every trial has turned
     ``end_heading_change_deg = 180`` or ``duration_s``; trials keep their
     own samples (``psi`` recorded for all trials to the end of the run).
     """
