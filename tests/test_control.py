@@ -168,7 +168,7 @@ def test_closed_loop_zero_steady_error_under_disturbance():
     # Integral action removes the steady error under a constant disturbance
     # (final value theorem on the closed loop; Fossen 2021, PID autopilot).
     k, tc = 0.5, 2.0
-    bias = np.array([0.05, -0.03, 0.0])  # constant yaw-moment disturbance, as rate [rad/s^2 * T]
+    bias = np.array([0.05, -0.03, 0.0])  # yaw-moment disturbance b [rad/s] in T r_dot + r = K delta + b
     psi_d = np.array([0.5, -0.3, 0.2])
     p = heading_pid_gains(k, tc, natural_frequency_rad_s=1.0, damping_ratio=1.0, output_max=0.6)
     psis, _ = _simulate_heading(p, k, tc, psi_d, bias)
