@@ -28,6 +28,8 @@ ENGINE_MODULES = [
     "wavebench.craft.integrate",
     "wavebench.craft.manoeuvres",
     "wavebench.craft.kernel",
+    "wavebench.guidance",
+    "wavebench.control",
     "wavebench.spec",
     "wavebench.spec.build",
     "wavebench.report",
