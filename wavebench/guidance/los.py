@@ -16,6 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from wavebench.core.frames import wrap_pi
 from wavebench.core.params import Params, bounded
 
 from .path import WaypointPath, along_track_and_cross_track, path_tangential_angle, switch_legs
@@ -24,8 +25,8 @@ __all__ = ["LosParams", "LosState", "course_to_heading", "los_init", "los_step",
 
 
 def wrap_angle(a: np.ndarray) -> np.ndarray:
-    """Wrap angles to [-pi, pi), rad."""
-    return (np.asarray(a, dtype=float) + np.pi) % (2.0 * np.pi) - np.pi
+    """Wrap angles to [-pi, pi), rad (:func:`wavebench.core.frames.wrap_pi`)."""
+    return np.asarray(wrap_pi(a), dtype=float)
 
 
 @dataclass(frozen=True, kw_only=True)

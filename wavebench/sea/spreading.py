@@ -43,6 +43,7 @@ from numpy.typing import ArrayLike, NDArray
 from scipy import special
 
 from ..core.errors import ParameterError
+from ..core.frames import wrap_pi
 from ..core.params import Params, bounded
 from ..core.streams import TrialStreams
 
@@ -60,26 +61,15 @@ _KINDS = ("cos2s", "cosn", "long_crested")
 
 
 def wrap_angle(angle_rad: ArrayLike) -> NDArray[np.float64] | float:
-    """Wrap angles to [-pi, pi).
-
-    Parameters
-    ----------
-    angle_rad : float or ndarray
-        Angle [rad].
-
-    Returns
-    -------
-    float or ndarray
-        Same shape, in [-pi, pi).
+    """Wrap angles to [-pi, pi) (:func:`wavebench.core.frames.wrap_pi`).
 
     Examples
     --------
     >>> round(wrap_angle(3 * math.pi / 2), 6)
     -1.570796
     """
-    a = np.asarray(angle_rad, dtype=float)
-    out = np.mod(a + np.pi, 2.0 * np.pi) - np.pi
-    return out if out.ndim else float(out)
+    out = wrap_pi(angle_rad)
+    return out if np.ndim(out) else float(out)
 
 
 def nautical_from_deg_to_toward_rad(from_deg: ArrayLike) -> NDArray[np.float64] | float:

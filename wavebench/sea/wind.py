@@ -61,6 +61,7 @@ import numpy as np
 
 from ..core.constants import RHO_AIR
 from ..core.errors import ParameterError
+from ..core.frames import wrap_pi
 from ..core.params import Params, bounded
 from ..core.streams import TrialStreams
 
@@ -91,11 +92,6 @@ GUST_SPECTRA = ("npd", "none")
 NPD_EXPONENT = 0.468
 
 _TWO_PI = 2.0 * math.pi
-
-
-def _wrap_pi(angle: Any) -> np.ndarray:
-    """Wrap angles [rad] to [-pi, pi)."""
-    return np.mod(np.asarray(angle, dtype=float) + math.pi, _TWO_PI) - math.pi
 
 
 # ---------------------------------------------------------------------------
@@ -614,7 +610,7 @@ def table_coefficients(table: WindCoefficientTable, gamma_rw_rad: Any) -> np.nda
     ndarray of shape (n_trials, 3)
         ``[C_X, C_Y, C_N]``.
     """
-    g = np.rad2deg(_wrap_pi(gamma_rw_rad))
+    g = np.rad2deg(wrap_pi(gamma_rw_rad))
     cols = [
         np.interp(g, table.angles_deg, getattr(table, n), period=360.0)
         for n in ("c_x", "c_y", "c_n")
