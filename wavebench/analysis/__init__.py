@@ -1,0 +1,1 @@
+"""Per-trial metrics, statistics and verdicts."""
