@@ -55,6 +55,7 @@ BASE: dict = {
     },
     "current": {"speed_mps": {"lognormal": {"median": 0.4, "sigma": 0.2}}, "set_deg": 90.0},
     "wind": {"speed_mps": 8.0, "direction_from_deg": 230.0},
+    "mission": {"kind": "waypoints", "waypoints_ne_m": [[0.0, 0.0], [100.0, 0.0]], "speed_mps": 2.0},
     "campaign": {"trials": 10, "seed": 7},
 }
 
@@ -96,6 +97,8 @@ def test_example_file_loads_with_its_distributions():
         "current.speed_mps",
         "current.set_deg",
         "wind.speed_mps",
+        "mission.start_north_m",
+        "mission.start_east_m",
     }
 
 
@@ -195,6 +198,11 @@ kind = "jonswap"
 
 [craft]
 demo = "Tholepin"
+
+[mission]
+speed_mps = 2
+waypoints_ne_m = [[0, 0], [100.0, 0.0]]
+kind = "waypoints"
 
 [scenario]
 dt_s = 0.1

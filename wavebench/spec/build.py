@@ -22,7 +22,7 @@ import numpy as np
 
 from ..core.errors import ParameterError
 from ..core.streams import TrialStreams
-from ..craft.catalogue import CraftParams, demo_craft
+from ..craft.catalogue import CraftParams
 from ..craft.kernel import Plant
 from ..sea.current import (
     CurrentModel,
@@ -101,7 +101,7 @@ class TrialEnvironment:
     wind : TrialWind or None
         None when the spec has no ``[wind]``.
     craft : CraftParams
-        The spec's demo craft.
+        The spec's craft (built-in or inline).
     drift : DriftModel or None
         Wave drift of the craft's hull in the batch's seas; None without a sea.
     plant : Plant
@@ -181,7 +181,7 @@ def build_environment(
     if not (math.isfinite(current_record_dt_s) and current_record_dt_s > 0.0):
         raise ParameterError("current_record_dt_s", current_record_dt_s, "must be a finite number > 0")
     draws = draw_trial_parameters(spec, trials)
-    craft = demo_craft(spec.craft.demo)
+    craft = spec.craft.build()
     hull = craft.hull
 
     spectrum = spreading = components = drift = None

@@ -214,9 +214,7 @@ class Choice:
             raise ParameterError("choice", [], "needs at least one value")
         if self.weights is not None:
             if len(self.weights) != len(self.values):
-                raise ParameterError(
-                    "weights", list(self.weights), f"needs one weight per value ({len(self.values)})"
-                )
+                raise ParameterError("weights", list(self.weights), f"needs one weight per value ({len(self.values)})")
             if any(w < 0.0 for w in self.weights):
                 raise ParameterError("weights", list(self.weights), "weights must be >= 0")
             total = math.fsum(self.weights)
@@ -308,9 +306,7 @@ def parse_distribution(data: Mapping[str, Any], path: str) -> Distribution:
                 f"unknown distribution; use one of {list(DISTRIBUTION_KINDS)}",
                 _suggest(unknown[0], list(DISTRIBUTION_KINDS)),
             )
-        raise ParameterError(
-            path, dict(data), f"a distribution names exactly one kind of {list(DISTRIBUTION_KINDS)}"
-        )
+        raise ParameterError(path, dict(data), f"a distribution names exactly one kind of {list(DISTRIBUTION_KINDS)}")
     kind = kinds[0]
     extra = [k for k in keys if k != kind and not (kind == "choice" and k == "weights")]
     if extra:

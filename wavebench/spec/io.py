@@ -12,6 +12,7 @@ round. No code is ever evaluated: a spec is plain data.
 
 from __future__ import annotations
 
+import dataclasses
 import hashlib
 import json
 import os
@@ -24,6 +25,7 @@ import tomli_w
 from ..core.errors import ParameterError
 from ..core.params import Params
 from .distributions import distribution_to_data
+from .fields import params_tree_to_data
 from .schema import _DIST_TYPES, Spec, _Table, spec_from_data, spec_to_data
 
 if sys.version_info >= (3, 11):
@@ -98,21 +100,32 @@ def _inline(data: dict[str, Any]) -> str:
     return "{ " + ", ".join(parts) + " }"
 
 
-def _emit(obj: Any, name: str, out: list[str]) -> None:
+def _items(obj: Any) -> list[tuple[str, Any, bool]]:
+    """(key, value, is_table) of a spec table or a block parameter set, in declaration order."""
     if isinstance(obj, Params):
-        from ..core.params import params_to_dict
-
-        items = list(params_to_dict(obj).items())
-    else:
-        items = [(f, getattr(obj, f)) for f in obj.__dataclass_fields__]
-    lines, tables = [], []
-    for key, value in items:
+        out = []
+        for key, value in params_tree_to_data(obj).items():
+            out.append((key, getattr(obj, key) if isinstance(getattr(obj, key), Params) else value, False))
+        return [(k, v, isinstance(v, Params)) for k, v, _ in out]
+    items: list[tuple[str, Any, bool]] = []
+    for f in dataclasses.fields(obj):
+        value = getattr(obj, f.name)
         if value is None:
             continue
-        if isinstance(value, _DIST_TYPES):
-            lines.append(f"{key} = {_inline(distribution_to_data(value))}")
-        elif isinstance(value, (Params, _Table)):
+        if "named_tables" in f.metadata:
+            items.extend((f"{f.name}.{name}", sub, True) for name, sub in value)
+        else:
+            items.append((f.name, value, isinstance(value, (Params, _Table))))
+    return items
+
+
+def _emit(obj: Any, name: str, out: list[str]) -> None:
+    lines, tables = [], []
+    for key, value, is_table in _items(obj):
+        if is_table:
             tables.append((key, value))
+        elif isinstance(value, _DIST_TYPES):
+            lines.append(f"{key} = {_inline(distribution_to_data(value))}")
         else:
             lines.append(f"{key} = {_literal(value)}")
     if name:
