@@ -164,7 +164,7 @@ class Verdict:
         names = [f.name for f in dataclasses.fields(cls)]
         missing = [k for k in names if k not in data]
         if missing:
-            raise ParameterError(missing[0], None, "is required in a verdict")
+            raise ParameterError(missing[0], None, "a value is required (missing from the verdict)")
         unknown = sorted(set(data) - set(names))
         if unknown:
             raise ParameterError(unknown[0], data[unknown[0]], f"is not a verdict field (fields: {', '.join(names)})")
