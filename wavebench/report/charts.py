@@ -1,0 +1,446 @@
+"""Static SVG histograms and percentile fan charts for campaign reports.
+
+Two chart kinds on top of :mod:`wavebench.report.svg`: a histogram of one
+per-trial metric (with optional requirement markers) and a band chart that
+fills the area between percentile curves over time. Both return
+:class:`~wavebench.report.svg.Svg` text with no script and no external
+resource, so they can be inlined in a self-contained HTML page.
+
+Each chart records its data ranges on the root element (``data-xlim``,
+``data-ylim``) and its plotting area as ``<rect class="plot-area">``, so a
+reader (or a test) can map pixel coordinates back to data units; histogram
+bars carry their bin edges and count as ``data-lo``, ``data-hi`` and
+``data-count``.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import html
+import math
+from collections.abc import Callable, Sequence
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from ..core.errors import ParameterError
+from .svg import PALETTE, Series, Svg, _fmt, nice_ticks
+
+__all__ = ["band_chart", "histogram_chart", "histogram_counts"]
+
+_BG = "#fbfbf8"
+_GRID = "#e2e2dc"
+_FRAME = "#999"
+_MARKER = "#b3261e"
+
+
+def _uid(*parts: object) -> str:
+    """A short id that is stable for the same content (for clip paths in one page)."""
+    h = hashlib.sha1()
+    for p in parts:
+        h.update(np.asarray(p).tobytes() if isinstance(p, np.ndarray) else repr(p).encode())
+    return "c" + h.hexdigest()[:12]
+
+
+def _text_width(text: str, size: float = 11.0) -> float:
+    """Rough width of sans-serif text [px] (0.6 em per character; common practice, no source)."""
+    return 0.6 * size * len(text)
+
+
+class _Axes:
+    """Frame, grid, ticks and labels of one chart; maps data to pixels."""
+
+    def __init__(
+        self,
+        *,
+        width: int,
+        height: int,
+        top: int,
+        xlim: tuple[float, float],
+        ylim: tuple[float, float],
+        left: int = 62,
+        right: int = 16,
+        bottom: int = 44,
+    ) -> None:
+        self.width, self.height = width, height
+        self.left, self.top = left, top
+        self.pw, self.ph = width - left - right, height - top - bottom
+        self.x0, self.x1 = xlim
+        self.y0, self.y1 = ylim
+
+    def px(self, x: np.ndarray | float) -> np.ndarray:
+        return self.left + (np.asarray(x, dtype=float) - self.x0) / (self.x1 - self.x0) * self.pw
+
+    def py(self, y: np.ndarray | float) -> np.ndarray:
+        return self.top + self.ph - (np.asarray(y, dtype=float) - self.y0) / (self.y1 - self.y0) * self.ph
+
+    def open(self, title: str, note: str = "") -> list[str]:
+        w, h, left, top, pw, ph = self.width, self.height, self.left, self.top, self.pw, self.ph
+        out = [
+            f'<svg xmlns="http://www.w3.org/2000/svg" width="{w}" height="{h}" viewBox="0 0 {w} {h}" '
+            f'font-family="sans-serif" font-size="11" data-xlim="{self.x0!r} {self.x1!r}" '
+            f'data-ylim="{self.y0!r} {self.y1!r}">',
+            f'<rect class="plot-area" x="{left}" y="{top}" width="{pw}" height="{ph}" fill="{_BG}" stroke="{_FRAME}"/>',
+        ]
+        if title:
+            out.append(f'<text x="{left}" y="18" font-size="13" font-weight="bold">{html.escape(title)}</text>')
+        if note:
+            out.append(f'<text x="{left + pw}" y="18" text-anchor="end" fill="#555">{html.escape(note)}</text>')
+        return out
+
+    def grid(self, out: list[str], xlabel: str, ylabel: str, yticks: Sequence[float] | None = None) -> None:
+        left, top, pw, ph = self.left, self.top, self.pw, self.ph
+        for t in nice_ticks(self.x0, self.x1):
+            X = float(self.px(t))
+            out.append(f'<line x1="{X:.1f}" y1="{top}" x2="{X:.1f}" y2="{top + ph}" stroke="{_GRID}"/>')
+            out.append(f'<text x="{X:.1f}" y="{top + ph + 14}" text-anchor="middle">{_fmt(t)}</text>')
+        for t in nice_ticks(self.y0, self.y1) if yticks is None else yticks:
+            Y = float(self.py(t))
+            out.append(f'<line x1="{left}" y1="{Y:.1f}" x2="{left + pw}" y2="{Y:.1f}" stroke="{_GRID}"/>')
+            out.append(f'<text x="{left - 6}" y="{Y + 4:.1f}" text-anchor="end">{_fmt(t)}</text>')
+        out.append(
+            f'<text x="{left + pw / 2:.1f}" y="{self.height - 8}" text-anchor="middle">{html.escape(xlabel)}</text>'
+        )
+        out.append(
+            f'<text x="14" y="{top + ph / 2:.1f}" text-anchor="middle" '
+            f'transform="rotate(-90 14 {top + ph / 2:.1f})">{html.escape(ylabel)}</text>'
+        )
+
+
+def _check_size(width: int, height: int) -> None:
+    if not (isinstance(width, (int, np.integer)) and width >= 160):
+        raise ParameterError("width", width, "an integer >= 160 [px]")
+    if not (isinstance(height, (int, np.integer)) and height >= 120):
+        raise ParameterError("height", height, "an integer >= 120 [px]")
+
+
+def _default_bins(n: int) -> int:
+    """Square-root choice of the bin count, kept within 5..30 (common practice, no source)."""
+    return int(min(30, max(5, math.ceil(math.sqrt(max(n, 1))))))
+
+
+def histogram_counts(values: ArrayLike, bins: int | ArrayLike | None = None) -> tuple[np.ndarray, np.ndarray, int, int]:
+    """Bin the finite values; count what was left out.
+
+    Parameters
+    ----------
+    values : array_like
+        Data (any shape; flattened). NaN and +-inf are not binned.
+    bins : int or array_like of shape (n_bins + 1,), optional
+        Number of equal-width bins spanning the finite data (the square-root
+        choice, 5 to 30 bins, when None), or increasing bin edges.
+
+    Returns
+    -------
+    counts : ndarray of shape (n_bins,), int64
+        Values per bin; every bin is half-open ``[lo, hi)`` but the last,
+        which also holds its upper edge.
+    edges : ndarray of shape (n_bins + 1,)
+        Bin edges in data units.
+    n_nonfinite : int
+        NaN and infinite values left out.
+    n_outside : int
+        Finite values outside the edges (only with explicit edges).
+
+    Examples
+    --------
+    >>> counts, edges, n_nan, n_out = histogram_counts([0.0, 0.5, 1.0, float("nan")], bins=2)
+    >>> counts.tolist(), edges.tolist(), n_nan, n_out
+    ([1, 2], [0.0, 0.5, 1.0], 1, 0)
+    """
+    v = np.asarray(values, dtype=float).ravel()
+    finite = np.isfinite(v)
+    n_nonfinite = int(v.size - np.count_nonzero(finite))
+    v = v[finite]
+    if bins is None or np.ndim(bins) == 0:
+        k = _default_bins(v.size) if bins is None else bins
+        if isinstance(k, (bool, np.bool_)) or not isinstance(k, (int, np.integer)) or k < 1:
+            raise ParameterError("bins", bins, "a bin count >= 1 or an increasing sequence of bin edges")
+        if v.size:
+            lo, hi = float(v.min()), float(v.max())
+        else:
+            lo, hi = 0.0, 1.0
+        if hi == lo:
+            lo, hi = lo - 0.5, hi + 0.5
+        edges = np.linspace(lo, hi, int(k) + 1)
+    else:
+        edges = np.asarray(bins, dtype=float)
+        if edges.ndim != 1 or edges.size < 2 or not np.all(np.isfinite(edges)) or np.any(np.diff(edges) <= 0):
+            raise ParameterError("bins", bins, "a bin count >= 1 or an increasing sequence of bin edges")
+    n_bins = edges.size - 1
+    idx = np.searchsorted(edges, v, side="right") - 1
+    idx[v == edges[-1]] = n_bins - 1  # the last bin is closed on the right
+    inside = (idx >= 0) & (idx < n_bins)
+    counts = np.bincount(idx[inside], minlength=n_bins).astype(np.int64)
+    return counts, edges, n_nonfinite, int(np.count_nonzero(~inside))
+
+
+def _as_list(x: object) -> list:
+    if x is None:
+        return []
+    if isinstance(x, str):
+        return [x]
+    if isinstance(x, Sequence) or isinstance(x, np.ndarray):
+        return list(x)
+    return [x]
+
+
+def histogram_chart(
+    values: ArrayLike,
+    *,
+    bins: int | ArrayLike | None = None,
+    title: str = "",
+    xlabel: str = "",
+    ylabel: str = "trials",
+    threshold: float | Sequence[float] | None = None,
+    threshold_label: str | Sequence[str] = "",
+    color: str | None = None,
+    width: int = 540,
+    height: int = 300,
+) -> Svg:
+    """Render a histogram of one quantity as SVG.
+
+    Parameters
+    ----------
+    values : array_like
+        Data (flattened); NaN and infinite values are left out and counted
+        in a note above the plot.
+    bins : int or array_like, optional
+        Bin count or edges, as in :func:`histogram_counts`.
+    title, xlabel, ylabel : str
+        Texts (with units, e.g. ``"xte_p95_m [m]"``).
+    threshold : float or sequence of float, optional
+        Marker(s) drawn as dashed vertical lines (e.g. a requirement's
+        threshold); the x range grows to show them.
+    threshold_label : str or sequence of str
+        Text beside each marker.
+    color : str, optional
+        Bar colour; the first palette colour when None.
+    width, height : int
+        Size [px].
+
+    Returns
+    -------
+    Svg
+        An ``<svg>`` element. Each bar is a ``<rect class="bar">`` with
+        ``data-lo``, ``data-hi`` (bin edges, exact ``repr`` of the floats)
+        and ``data-count``.
+
+    Examples
+    --------
+    >>> svg = histogram_chart([1.0, 2.0, 2.5, float("nan")], bins=3, title="t", threshold=2.2)
+    >>> svg.count('class="bar"'), "1 NaN/inf not shown" in svg
+    (3, True)
+    """
+    _check_size(width, height)
+    counts, edges, n_bad, n_out = histogram_counts(values, bins)
+    marks = [float(t) for t in _as_list(threshold)]
+    labels = [str(s) for s in _as_list(threshold_label)]
+    labels += [""] * (len(marks) - len(labels))
+    if any(not math.isfinite(t) for t in marks):
+        raise ParameterError("threshold", threshold, "finite numbers")
+    n_shown = int(counts.sum())
+    empty = n_shown == 0
+
+    lo, hi = float(edges[0]), float(edges[-1])
+    for t in marks:
+        lo, hi = min(lo, t), max(hi, t)
+    pad = 0.03 * (hi - lo)
+    xlim = (lo - pad, hi + pad)
+    cmax = int(counts.max()) if counts.size else 0
+    ticks = [t for t in nice_ticks(0.0, max(cmax, 1)) if float(t).is_integer()] or [0.0]
+    ylim = (0.0, max(max(cmax, 1) * 1.1, ticks[-1]))
+    ax = _Axes(width=width, height=height, top=30 if (title or n_bad or n_out) else 12, xlim=xlim, ylim=ylim)
+
+    note = [f"n = {n_shown}"]
+    if n_bad:
+        note.append(f"{n_bad} NaN/inf not shown")
+    if n_out:
+        note.append(f"{n_out} outside the bins")
+    out = ax.open(title, ", ".join(note))
+    ax.grid(out, xlabel, ylabel, ticks)
+    fill = color or PALETTE[0]
+    y_base = float(ax.py(0.0))
+    for c, a, b in zip(counts, edges[:-1], edges[1:], strict=True):
+        xa, xb = float(ax.px(a)), float(ax.px(b))
+        yc = float(ax.py(float(c)))
+        out.append(
+            f'<rect class="bar" x="{xa:.2f}" y="{yc:.2f}" width="{xb - xa:.2f}" height="{y_base - yc:.2f}" '
+            f'fill="{fill}" fill-opacity="0.85" stroke="#fff" stroke-width="0.6" '
+            f'data-lo="{float(a)!r}" data-hi="{float(b)!r}" data-count="{int(c)}">'
+            f"<title>{html.escape(_fmt(float(a)))} to {html.escape(_fmt(float(b)))}: {int(c)}</title></rect>"
+        )
+    if empty:
+        out.append(
+            f'<text x="{ax.left + ax.pw / 2:.1f}" y="{ax.top + ax.ph / 2:.1f}" text-anchor="middle" '
+            f'fill="#777">no finite values</text>'
+        )
+    for k, (t, label) in enumerate(zip(marks, labels, strict=True)):
+        X = float(ax.px(t))
+        out.append(
+            f'<line class="threshold" x1="{X:.2f}" y1="{ax.top}" x2="{X:.2f}" y2="{ax.top + ax.ph}" '
+            f'stroke="{_MARKER}" stroke-width="1.6" stroke-dasharray="6,3" data-value="{t!r}"/>'
+        )
+        if label:
+            Y = ax.top + 13 + 13 * k
+            room_right = ax.left + ax.pw - X - 4
+            if _text_width(label) <= room_right:
+                anchor, tx = "start", X + 4
+            else:
+                anchor, tx = "end", X - 4
+            out.append(
+                f'<text x="{tx:.1f}" y="{Y}" text-anchor="{anchor}" fill="{_MARKER}" '
+                f'stroke="{_BG}" stroke-width="3" paint-order="stroke">{html.escape(label)}</text>'
+            )
+    out.append("</svg>")
+    return Svg("\n".join(out))
+
+
+def _runs(ok: np.ndarray) -> list[tuple[int, int]]:
+    """Start/stop indices of the runs of True in a boolean vector."""
+    d = np.diff(np.concatenate([[0], ok.astype(np.int8), [0]]))
+    return list(zip(np.flatnonzero(d == 1).tolist(), np.flatnonzero(d == -1).tolist(), strict=True))
+
+
+def _polyline(px: Callable, py: Callable, x: np.ndarray, y: np.ndarray) -> str:
+    X, Y = px(x), py(y)
+    parts, pen = [], False
+    for a, b in zip(X, Y, strict=True):
+        if math.isfinite(a) and math.isfinite(b):
+            parts.append(f"{'L' if pen else 'M'}{a:.2f},{b:.2f}")
+            pen = True
+        else:
+            pen = False
+    return " ".join(parts)
+
+
+def band_chart(
+    x: ArrayLike,
+    bands: Sequence[tuple[ArrayLike, ArrayLike, str] | tuple[ArrayLike, ArrayLike, str, str]],
+    lines: Sequence[Series] = (),
+    *,
+    title: str = "",
+    xlabel: str = "",
+    ylabel: str = "",
+    color: str | None = None,
+    width: int = 540,
+    height: int = 300,
+    xlim: tuple[float, float] | None = None,
+    ylim: tuple[float, float] | None = None,
+) -> Svg:
+    """Render filled bands (e.g. percentile ranges over time) with lines on top.
+
+    Parameters
+    ----------
+    x : array_like of shape (n,)
+        Abscissa shared by all bands (e.g. time [s]).
+    bands : sequence of (low, high, label) or (low, high, label, color)
+        Each band is the area between ``low`` and ``high`` (array_like of
+        shape (n,)), filled translucent; overlapping bands darken, so list
+        the widest first. Where x, low or high is NaN the band has a gap.
+    lines : sequence of Series
+        Lines drawn over the bands (e.g. the median), with their own x.
+    title, xlabel, ylabel : str
+        Texts (with units).
+    color : str, optional
+        Fill colour of bands without their own; the first palette colour
+        when None.
+    width, height : int
+        Size [px].
+    xlim, ylim : (float, float), optional
+        Axis ranges; from the data when omitted.
+
+    Returns
+    -------
+    Svg
+        An ``<svg>`` element; each band is drawn as ``<path class="band">``
+        (low edge forward, then high edge backward, per gap-free run).
+
+    Examples
+    --------
+    >>> svg = band_chart([0, 1, 2], [([0, 1, 0], [2, 3, 2], "range")], [Series([0, 1, 2], [1, 2, 1], "mid")])
+    >>> svg.count('class="band"')
+    1
+    """
+    _check_size(width, height)
+    xv = np.asarray(x, dtype=float)
+    if xv.ndim != 1:
+        raise ParameterError("x", xv, "a 1-D array")
+    parsed = []
+    for k, band in enumerate(bands):
+        if len(band) not in (3, 4):
+            raise ParameterError(f"bands[{k}]", band, "a tuple (low, high, label) or (low, high, label, color)")
+        low, high = np.asarray(band[0], dtype=float), np.asarray(band[1], dtype=float)
+        if low.shape != xv.shape or high.shape != xv.shape:
+            raise ParameterError(f"bands[{k}]", (low.shape, high.shape), f"low and high of shape {xv.shape}")
+        parsed.append((low, high, str(band[2]), band[3] if len(band) == 4 else None))
+    lxs = [np.asarray(s.x, dtype=float) for s in lines]
+    lys = [np.asarray(s.y, dtype=float) for s in lines]
+
+    def span(arrs: list[np.ndarray]) -> tuple[float, float]:
+        vals = [a[np.isfinite(a)] for a in arrs]
+        v = np.concatenate(vals) if vals else np.array([])
+        if v.size == 0:
+            return 0.0, 1.0
+        lo, hi = float(v.min()), float(v.max())
+        if hi == lo:
+            lo, hi = lo - 0.5, hi + 0.5
+        pad = 0.03 * (hi - lo)
+        return lo - pad, hi + pad
+
+    xl = xlim if xlim else span([xv, *lxs])
+    yl = ylim if ylim else span([a for b in parsed for a in b[:2]] + lys)
+
+    legend: list[tuple[str, str, str]] = []  # (kind, label, colour)
+    fill_default = color or PALETTE[0]
+    for _low, _high, label, c in parsed:
+        if label:
+            legend.append(("band", label, c or fill_default))
+    for k, s in enumerate(lines):
+        if s.label:
+            legend.append(("line", s.label, s.color or PALETTE[k % len(PALETTE)]))
+    top = (30 if title else 12) + (18 if legend else 0)
+    ax = _Axes(width=width, height=height, top=top, xlim=(float(xl[0]), float(xl[1])),
+               ylim=(float(yl[0]), float(yl[1])))  # fmt: skip
+    out = ax.open(title)
+    ax.grid(out, xlabel, ylabel)
+    clip = _uid(title, xv, *[b[0] for b in parsed], *lys)
+    out.append(f'<clipPath id="{clip}"><rect x="{ax.left}" y="{ax.top}" width="{ax.pw}" height="{ax.ph}"/></clipPath>')
+    for low, high, label, c in parsed:
+        ok = np.isfinite(xv) & np.isfinite(low) & np.isfinite(high)
+        segs = []
+        for i0, i1 in _runs(ok):
+            X, L, H = ax.px(xv[i0:i1]), ax.py(low[i0:i1]), ax.py(high[i0:i1])
+            pts = [f"{a:.2f},{b:.2f}" for a, b in zip(X, L, strict=True)]
+            pts += [f"{a:.2f},{b:.2f}" for a, b in zip(X[::-1], H[::-1], strict=True)]
+            segs.append("M" + " L".join(pts) + " Z")
+        out.append(
+            f'<path class="band" d="{" ".join(segs)}" fill="{c or fill_default}" fill-opacity="0.2" '
+            f'stroke="none" data-label="{html.escape(label)}" clip-path="url(#{clip})"/>'
+        )
+    for k, (s, lx, ly) in enumerate(zip(lines, lxs, lys, strict=True)):
+        c = s.color or PALETTE[k % len(PALETTE)]
+        dash = ' stroke-dasharray="5,3"' if s.dashed else ""
+        out.append(
+            f'<path class="line" d="{_polyline(ax.px, ax.py, lx, ly)}" fill="none" stroke="{c}" '
+            f'stroke-width="{s.width}" stroke-opacity="{s.opacity}"{dash} data-label="{html.escape(s.label)}" '
+            f'clip-path="url(#{clip})"/>'
+        )
+    # legend: one row between the title and the plot
+    X = float(ax.left)
+    Y = ax.top - 7
+    n_band = 0
+    for kind, label, c in legend:
+        if kind == "band":
+            # nested bands (widest first) overlap: band k shows k + 1 layers of opacity 0.2
+            n_band += 1
+            op = 1.0 - 0.8**n_band
+            out.append(f'<rect x="{X:.1f}" y="{Y - 8}" width="16" height="10" fill="{c}" fill-opacity="{op:.2f}"/>')
+        else:
+            out.append(
+                f'<line x1="{X:.1f}" y1="{Y - 3}" x2="{X + 16:.1f}" y2="{Y - 3}" stroke="{c}" stroke-width="2"/>'
+            )
+        out.append(f'<text x="{X + 20:.1f}" y="{Y}">{html.escape(label)}</text>')
+        X += 20 + _text_width(label) + 14
+    out.append("</svg>")
+    return Svg("\n".join(out))
