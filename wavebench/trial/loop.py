@@ -1,0 +1,198 @@
+"""The stepping loop: environment -> craft -> navigator -> guide -> pilot -> actuators, for a batch.
+
+Every control period (``stack.pilot.control_period_s``, a whole number of
+time steps) the loop
+
+1. forms the navigation solution (the truth navigator: the true state);
+2. steps the guide (desired heading and speed, cross-track error);
+3. steps the pilot (surge force and rudder);
+4. turns the demand into actuator commands and moves the actuators over the
+   period (lags and rate limits), holding their mean force;
+5. adds the wind load at the start of the period and the current there;
+6. advances the craft through its sea with the compiled kernel
+   (:func:`~wavebench.craft.kernel.advance`, RK4, wave drift inside).
+
+Then it checks each trial: a non-finite state, a runaway (speed or yaw
+rate beyond any the craft can reach), leaving the corridor or grounding
+ends that trial with its reason while the others go on; a trial that
+accepts its last waypoint is complete. The batch stops early once no trial
+is still running; nothing a trial records or scores after it ended is
+kept, so this does not change any result.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+from numpy.typing import NDArray
+
+from ..analysis.metrics import MetricAccumulator
+from ..craft.hull import relative_velocity
+from ..craft.kernel import advance
+from ..sea.current import current_velocity_ned
+from ..sea.seabed import depth_under_keel
+from ..sea.wind import wind_loads_on_craft
+from ..spec.schema import Spec
+from .blocks import BatchGuide, BatchPilot
+from .recorder import Recorder
+from .setup import TrialSetup, truth_nav
+from .wiring import check_wiring
+
+__all__ = ["RUNAWAY_SPEED_MPS", "RUNAWAY_YAW_RATE_RAD_S", "BatchResult", "run_batch"]
+
+#: A trial whose speed over ground exceeds this has diverged (common practice, no source).
+RUNAWAY_SPEED_MPS = 50.0
+#: A trial whose yaw rate exceeds this has diverged [rad/s] (common practice, no source).
+RUNAWAY_YAW_RATE_RAD_S = 5.0
+
+FloatArray = NDArray[np.float64]
+
+
+@dataclass(frozen=True)
+class BatchResult:
+    """What one batch produced.
+
+    Parameters
+    ----------
+    trials : ndarray of int
+        Global trial indices.
+    metrics : dict of str to ndarray of shape (n_trials,)
+        Metric columns (see :data:`~wavebench.analysis.metric_names.METRICS`).
+    record : Recorder or None
+        The decimated time series (None when recording was off).
+    time_s : ndarray
+        Times of the recorded samples [s].
+    steps_run : int
+        Time steps actually simulated (the batch may stop early).
+    """
+
+    trials: NDArray[np.int64]
+    metrics: dict[str, np.ndarray]
+    record: Recorder | None
+    time_s: FloatArray
+    steps_run: int
+
+
+def run_batch(
+    spec: Spec,
+    setup: TrialSetup,
+    *,
+    guide: BatchGuide | None = None,
+    pilot: BatchPilot | None = None,
+    record: bool = True,
+    on_progress: Callable[[float], Any] | None = None,
+) -> BatchResult:
+    """Run one batch of trials to the end of the scenario.
+
+    Parameters
+    ----------
+    spec : Spec
+    setup : TrialSetup
+        From :func:`~wavebench.trial.setup.build_trial_setup` for this batch.
+    guide, pilot : optional
+        Blocks replacing the spec's built-in guide or pilot (any object
+        following :class:`~wavebench.trial.blocks.BatchGuide` /
+        :class:`~wavebench.trial.blocks.BatchPilot`, e.g. a per-trial
+        adapter). Checked by the wiring before the first step.
+    record : bool
+        Keep the decimated time series.
+    on_progress : callable, optional
+        Called with the fraction of the batch's control periods just done.
+
+    Returns
+    -------
+    BatchResult
+    """
+    guide = guide or setup.guide
+    pilot = pilot or setup.pilot
+    check_wiring(guide, pilot)
+    env = setup.env
+    n = env.n_trials
+    dt = spec.scenario.dt_s
+    k = spec.control_steps
+    period = k * dt
+    n_ticks = spec.scenario.n_steps // k
+    rec_every = max(spec.record_steps // k, 1)
+    n_rec = -(-n_ticks // rec_every)
+    rec = Recorder(n, n_rec) if record else None
+    acc = MetricAccumulator(n, n_ticks, period)
+    act = setup.actuation
+    eta, nu, act_state = setup.eta0.copy(), setup.nu0.copy(), setup.act0.copy()
+    psi_w = None
+    nav = truth_nav(0.0, eta, nu)
+    g_state = guide.init(nav)
+    p_state = pilot.init(nav)
+    draft = float(np.max(env.craft.hull.draft_m))
+    cur_model = env.current
+    steps_run = 0
+    report_every = max(n_ticks // 100, 1)
+    for tick in range(n_ticks):
+        t = tick * period
+        nav = truth_nav(t, eta, nu)
+        g_state, gout = guide.step(g_state, nav, period)
+        p_state, pout = pilot.step(p_state, nav, gout, period)
+        active = acc.active
+        acc.complete(gout.done, t)
+        active = acc.active
+        if setup.abort_cross_track_m is not None:
+            acc.fail(np.abs(gout.cross_track_m) > setup.abort_cross_track_m,
+                     f"left the corridor at t = {t:.1f} s")  # fmt: skip
+        if setup.seabed is not None:
+            dukc = depth_under_keel(setup.seabed, eta[:, 0], eta[:, 1], draft)
+            acc.depth(active, dukc)
+            acc.fail(dukc < 0.0, f"grounded at t = {t:.1f} s", grounded=True)
+        active = acc.active
+        acc.sample(tick, active, gout.cross_track_m, nav.heading_rad, gout.heading_d_rad, nav.surge_mps,
+                   gout.speed_d_mps)  # fmt: skip
+        cur = None
+        if cur_model is not None:
+            cur = current_velocity_ned(cur_model.model, cur_model.state, eta[:, 0], eta[:, 1], 0.0, t)
+        nu_r = relative_velocity(eta, nu, cur)
+        command = act.command(pout)
+        new_act = act.step(act_state, command, period)
+        mid_act = 0.5 * (act_state + new_act)
+        act_state = new_act
+        tau = act.tau(mid_act, nu_r)
+        if setup.windage is not None:
+            tau = tau + wind_loads_on_craft(setup.windage, env.wind.state, t, nu[:, 0], nu[:, 1], eta[:, 2])
+        power = act.power_w(mid_act, nu_r)
+        if rec is not None and tick % rec_every == 0:
+            rec.record(tick // rec_every, active, {
+                "north_m": eta[:, 0], "east_m": eta[:, 1], "heading_deg": np.degrees(eta[:, 2]),
+                "surge_mps": nu[:, 0], "sway_mps": nu[:, 1], "yaw_rate_dps": np.degrees(nu[:, 2]),
+                "xte_m": gout.cross_track_m, "heading_cmd_deg": np.degrees(gout.heading_d_rad),
+                "speed_cmd_mps": gout.speed_d_mps, "power_w": power,
+            })  # fmt: skip
+        prev = eta[:, :2].copy()
+        eta, nu, psi_w = advance(env.plant, eta, nu, tick * k, dt, k, tau_ext=tau, current_ned=cur,
+                                 drift_heading_rad=psi_w)  # fmt: skip
+        steps_run += k
+        acc.motion(active, np.hypot(eta[:, 0] - prev[:, 0], eta[:, 1] - prev[:, 1]), power)
+        bad = ~(np.all(np.isfinite(eta), axis=1) & np.all(np.isfinite(nu), axis=1))
+        if np.any(bad):
+            acc.fail(bad, f"non-finite state at t = {t + period:.1f} s")
+        sog = np.hypot(nu[:, 0], nu[:, 1])
+        runaway = ~bad & ((sog > RUNAWAY_SPEED_MPS) | (np.abs(nu[:, 2]) > RUNAWAY_YAW_RATE_RAD_S))
+        if np.any(runaway):
+            acc.fail(runaway, f"runaway (speed or yaw rate beyond any the craft can reach) at t = {t + period:.1f} s")
+        dead = acc.failed
+        if np.any(dead):
+            # park failed trials in a harmless state so they cannot spoil the batch's arithmetic
+            eta[dead] = 0.0
+            nu[dead] = 0.0
+            act_state[dead] = 0.0
+            if psi_w is not None:
+                psi_w[dead] = 0.0
+        if on_progress is not None and (tick + 1) % report_every == 0:
+            on_progress(report_every / n_ticks)
+        if not np.any(acc.active):
+            break
+    if on_progress is not None:
+        on_progress((n_ticks - (tick + 1) // report_every * report_every) / n_ticks)
+    return BatchResult(
+        trials=np.asarray(env.trials.trials, dtype=np.int64), metrics=acc.finish(), record=rec,
+        time_s=np.arange(n_rec) * rec_every * period, steps_run=steps_run,
+    )  # fmt: skip
