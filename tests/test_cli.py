@@ -1,4 +1,4 @@
-"""The `wavebench demo` command end to end, on a small batch."""
+"""The `wavebench seakeeping` command end to end, on a small batch, and the SVG helpers."""
 
 from __future__ import annotations
 
@@ -12,9 +12,9 @@ from wavebench.cli import main
 from wavebench.report.svg import Series, line_chart, nice_ticks
 
 
-def test_demo_prints_report_and_writes_html(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+def test_seakeeping_prints_report_and_writes_html(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
     page = tmp_path / "demo.html"
-    assert main(["demo", "--trials", "6", "--quiet", "--html", str(page)]) == 0
+    assert main(["seakeeping", "--trials", "6", "--quiet", "--html", str(page)]) == 0
     out = capsys.readouterr().out
     for heading in ("JONSWAP sea", "WMO code table 3700", "significant wave-frequency motion",
                     "6 trials x 600 s", "Manoeuvring report", "CAUTION"):  # fmt: skip
@@ -25,20 +25,20 @@ def test_demo_prints_report_and_writes_html(tmp_path: Path, capsys: pytest.Captu
     assert "no substitute for sea trials" in text
 
 
-def test_demo_twin_hull_is_sized_from_the_craft(capsys: pytest.CaptureFixture[str]) -> None:
+def test_seakeeping_twin_hull_is_sized_from_the_craft(capsys: pytest.CaptureFixture[str]) -> None:
     # the ordered speed defaults to 80 % of the craft's own top speed, below it
-    assert main(["demo", "--craft", "Dulse", "--trials", "4", "--quiet"]) == 0
+    assert main(["seakeeping", "--craft", "Dulse", "--trials", "4", "--quiet"]) == 0
     out = capsys.readouterr().out
     assert "1.60 m/s surge" in out and "twin hull" in out
 
 
-def test_demo_rejects_a_speed_above_top_speed(capsys: pytest.CaptureFixture[str]) -> None:
-    assert main(["demo", "--speed", "9", "--trials", "2", "--quiet"]) == 2
+def test_seakeeping_rejects_a_speed_above_top_speed(capsys: pytest.CaptureFixture[str]) -> None:
+    assert main(["seakeeping", "--speed", "9", "--trials", "2", "--quiet"]) == 2
     assert "speed_mps" in capsys.readouterr().err
 
 
-def test_demo_rejects_an_unknown_craft(capsys: pytest.CaptureFixture[str]) -> None:
-    assert main(["demo", "--craft", "Nonesuch", "--trials", "2", "--quiet"]) == 2
+def test_seakeeping_rejects_an_unknown_craft(capsys: pytest.CaptureFixture[str]) -> None:
+    assert main(["seakeeping", "--craft", "Nonesuch", "--trials", "2", "--quiet"]) == 2
     err = capsys.readouterr().err
     assert "Nonesuch" in err and "Dulse" in err and "Tholepin" in err
 

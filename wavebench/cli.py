@@ -1,4 +1,20 @@
-"""Command line: ``wavebench demo`` (more commands come with the trial runner)."""
+"""Command line: run campaigns from spec files, write their reports, try the built-in scenarios.
+
+``wavebench run SPEC --out DIR``
+    Run a campaign into a store folder (spec, manifest, metrics.parquet,
+    timeseries.nc, verdicts.json).
+``wavebench report DIR``
+    Write DIR/report.html, self-contained.
+``wavebench demo [NAME] [--out DIR]``, ``wavebench demo --list``
+    Run a built-in invented scenario end to end and write its report.
+``wavebench example NAME``, ``wavebench example --craft NAME``
+    Print a built-in scenario's spec (or a demo craft as an inline
+    ``[craft]`` table), the starting point for a spec of one's own.
+``wavebench seakeeping``
+    Sea-state, seakeeping and manoeuvring report for a demo craft.
+
+Errors are one readable line on standard error and exit status 2.
+"""
 
 from __future__ import annotations
 
@@ -9,10 +25,95 @@ from pathlib import Path
 
 from .core.errors import ParameterError
 
-__all__ = ["main"]
+__all__ = ["build_parser", "main"]
+
+
+def _print_summary(result, out: Path) -> None:
+    from .analysis.verdicts import verdicts_table_text
+    from .report.html import CAUTION
+
+    m = result.metrics
+    counts = m["ended"].value_counts().to_dict()
+    n = len(m)
+    print(f"{n} trials of '{result.spec.scenario.name}' in {result.wall_time_s:.1f} s: "
+          + ", ".join(f"{counts.get(k, 0)} {k}" for k in ("completed", "truncated", "failed")))  # fmt: skip
+    if result.verdicts:
+        print(verdicts_table_text(result.verdicts))
+    else:
+        print("no requirements in the spec")
+    if not result.complete:
+        print("INTERRUPTED: the store holds the batches that finished")
+    print(f"results in {out}/")
+    print("CAUTION: " + CAUTION)
+
+
+def _run(args: argparse.Namespace) -> int:
+    from .campaign import run_campaign, write_store
+    from .spec.io import load_spec
+
+    spec = load_spec(Path(args.spec))
+    result = run_campaign(spec, trials=args.trials, seed=args.seed, batch_size=args.batch_size,
+                          record=not args.no_record, progress=not args.quiet)  # fmt: skip
+    out = write_store(result, args.out)
+    if args.report:
+        from .report.campaign import write_campaign_report
+
+        print(f"report: {write_campaign_report(out)}")
+    _print_summary(result, out)
+    return 0 if result.complete else 130
+
+
+def _report(args: argparse.Namespace) -> int:
+    from .report.campaign import write_campaign_report
+
+    path = write_campaign_report(Path(args.store), args.html)
+    print(f"report written to {path}")
+    return 0
 
 
 def _demo(args: argparse.Namespace) -> int:
+    from .campaign import run_campaign, write_store
+    from .report.campaign import write_campaign_report
+    from .spec.io import example_spec_names, example_spec_path, load_spec
+
+    if args.list:
+        for name in example_spec_names():
+            spec = load_spec(example_spec_path(name))
+            print(f"{name:<20} {spec.scenario.name} ({spec.craft.build().name}, {spec.campaign.trials} trials)")
+        return 0
+    spec = load_spec(example_spec_path(args.name))
+    out = Path(args.out or f"wavebench-demo-{args.name}")
+    result = run_campaign(spec, trials=args.trials, progress=not args.quiet)
+    write_store(result, out)
+    report = write_campaign_report(out)
+    _print_summary(result, out)
+    print(f"report: {report}")
+    return 0 if result.complete else 130
+
+
+def _example(args: argparse.Namespace) -> int:
+    from .spec.io import example_spec_path
+
+    if args.craft:
+        from .craft.catalogue import demo_craft
+        from .spec.io import dump_spec
+        from .spec.tables import CraftSpec
+
+        craft = demo_craft(args.craft)
+        inline = CraftSpec(name=craft.name, hull=craft.hull, **(
+            {"differential_thrust": craft.propulsion} if hasattr(craft.propulsion, "port")
+            else {"prop_rudder": craft.propulsion}))  # fmt: skip
+        text = dump_spec(inline)
+        body = text.replace("\n[", "\n[craft.")
+        print(f"# {craft.name} written inline: paste into a spec in place of its [craft] table\n[craft]\n{body}")
+        return 0
+    if not args.name:
+        raise ParameterError("NAME", None, "give a built-in scenario name (see 'wavebench demo --list') or --craft")
+    sys.stdout.write(example_spec_path(args.name).read_text(encoding="utf-8"))
+    return 0
+
+
+def _seakeeping(args: argparse.Namespace) -> int:
     from .demo import DemoScenario, run_demo
 
     scenario = DemoScenario(craft_name=args.craft, n_trials=args.trials, seed=args.seed, speed_mps=args.speed)
@@ -28,22 +129,52 @@ def _demo(args: argparse.Namespace) -> int:
 def build_parser() -> argparse.ArgumentParser:
     """The argument parser of the ``wavebench`` command."""
     parser = argparse.ArgumentParser(
-        prog="wavebench",
-        description="A bench for marine guidance, navigation and control.",
+        prog="wavebench", description="A bench for marine guidance, navigation and control."
     )
     sub = parser.add_subparsers(dest="command", required=True)
-    demo = sub.add_parser(
-        "demo",
-        help="sea-state, seakeeping, closed-loop and manoeuvring report for a demo craft",
-        description="Run the built-in demo on invented data and print its report.",
-    )
-    demo.add_argument("--craft", default="Tholepin", help="demo craft name (Tholepin, Dulse)")
-    demo.add_argument("--trials", type=int, default=200, help="closed-loop trials (default 200)")
-    demo.add_argument("--seed", type=int, default=2026, help="campaign seed (default 2026)")
-    demo.add_argument("--speed", type=float, default=None, help="ordered speed [m/s] (default 80 %% of top speed)")
-    demo.add_argument("--html", metavar="PATH", help="also write a self-contained HTML report")
+
+    run = sub.add_parser("run", help="run a campaign from a spec file into a store folder",
+                         description="Run a Monte Carlo campaign from a TOML spec; write a store folder.")  # fmt: skip
+    run.add_argument("spec", help="the spec file (TOML)")
+    run.add_argument("--out", required=True, metavar="DIR", help="store folder to write")
+    run.add_argument("--trials", type=int, help="number of trials (overrides the spec)")
+    run.add_argument("--seed", type=int, help="campaign seed (overrides the spec)")
+    run.add_argument("--batch-size", type=int, help="trials per vectorised batch (results do not depend on it)")
+    run.add_argument("--no-record", action="store_true", help="keep metrics only, no time series")
+    run.add_argument("--report", action="store_true", help="also write DIR/report.html")
+    run.add_argument("--quiet", action="store_true", help="no progress bar")
+    run.set_defaults(func=_run)
+
+    rep = sub.add_parser("report", help="write the HTML report of a store folder",
+                         description="Write a self-contained HTML report of a campaign store.")  # fmt: skip
+    rep.add_argument("store", metavar="DIR", help="store folder written by 'wavebench run'")
+    rep.add_argument("--html", metavar="PATH", help="where to write it (default DIR/report.html)")
+    rep.set_defaults(func=_report)
+
+    demo = sub.add_parser("demo", help="run a built-in invented scenario end to end and write its report",
+                          description="Run a built-in scenario; write its store and report.")  # fmt: skip
+    demo.add_argument("name", nargs="?", default="skerrow_sound", help="scenario name (default skerrow_sound)")
+    demo.add_argument("--out", metavar="DIR", help="store folder (default wavebench-demo-NAME)")
+    demo.add_argument("--trials", type=int, help="number of trials (default: the scenario's)")
+    demo.add_argument("--list", action="store_true", help="list the built-in scenarios")
     demo.add_argument("--quiet", action="store_true", help="no progress bar")
     demo.set_defaults(func=_demo)
+
+    ex = sub.add_parser("example", help="print a built-in scenario's spec, or a demo craft inline",
+                        description="Print a built-in spec as TOML: the starting point for your own.")  # fmt: skip
+    ex.add_argument("name", nargs="?", help="scenario name (see 'wavebench demo --list')")
+    ex.add_argument("--craft", metavar="CRAFT", help="print this demo craft as an inline [craft] table instead")
+    ex.set_defaults(func=_example)
+
+    sk = sub.add_parser("seakeeping", help="sea-state, seakeeping and manoeuvring report for a demo craft",
+                        description="Sea state, RAO motions, drift and manoeuvres of a demo craft.")  # fmt: skip
+    sk.add_argument("--craft", default="Tholepin", help="demo craft name (Tholepin, Dulse)")
+    sk.add_argument("--trials", type=int, default=200, help="closed-loop trials (default 200)")
+    sk.add_argument("--seed", type=int, default=2026, help="campaign seed (default 2026)")
+    sk.add_argument("--speed", type=float, default=None, help="ordered speed [m/s] (default 80 %% of top speed)")
+    sk.add_argument("--html", metavar="PATH", help="also write a self-contained HTML report")
+    sk.add_argument("--quiet", action="store_true", help="no progress bar")
+    sk.set_defaults(func=_seakeeping)
     return parser
 
 
@@ -54,6 +185,9 @@ def main(argv: Sequence[str] | None = None) -> int:
         return int(args.func(args))
     except ParameterError as exc:
         print(f"wavebench: error: {exc}", file=sys.stderr)
+        return 2
+    except OSError as exc:
+        print(f"wavebench: error: {exc.strerror or exc}: {exc.filename or ''}".rstrip(": "), file=sys.stderr)
         return 2
 
 

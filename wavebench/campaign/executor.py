@@ -1,0 +1,205 @@
+"""The inline executor: a campaign's trials in vectorised batches, in this process.
+
+:func:`run_campaign` cuts the trials into batches of ``batch_size``, builds
+each batch's environment and blocks from the spec and runs it
+(:func:`~wavebench.trial.loop.run_batch`). Trial ``i`` draws only from its
+own random streams, and the pilot's gains are derived once for the whole
+campaign, so a trial's metrics and record are the same whatever the batch
+size. A batch that raises is recorded as failed trials with the error as
+their reason, and the campaign goes on.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import time
+import warnings
+import zlib
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+from tqdm.auto import tqdm
+
+from ..analysis.metric_names import METRICS
+from ..analysis.verdicts import Verdict, evaluate_requirement
+from ..core.errors import ParameterError, WavebenchWarning
+from ..core.streams import TrialStreams
+from ..spec.build import build_environment
+from ..spec.io import spec_hash
+from ..spec.schema import Spec
+from ..trial.loop import BatchResult, run_batch
+from ..trial.recorder import SIGNALS
+from ..trial.setup import build_trial_setup, check_spec_against_craft, pilot_for
+
+__all__ = ["CampaignResult", "evaluate_verdicts", "run_campaign", "with_overrides"]
+
+
+@dataclass(frozen=True)
+class CampaignResult:
+    """Everything a campaign produced.
+
+    Parameters
+    ----------
+    spec : Spec
+        The spec as run (with any overrides applied).
+    metrics : pandas.DataFrame
+        One row per trial: ``trial``, the metrics and ``param.<path>`` draws.
+    timeseries : xarray.Dataset or None
+        Recorded signals, dims (trial, time); None when recording was off.
+    verdicts : list of Verdict
+        One per requirement of the spec.
+    wall_time_s : float
+        Wall-clock time of the run [s].
+    batch_size : int
+    complete : bool
+        False when the run was interrupted; the results then hold the
+        batches that finished.
+    """
+
+    spec: Spec
+    metrics: Any
+    timeseries: Any
+    verdicts: list[Verdict]
+    wall_time_s: float
+    batch_size: int
+    complete: bool = True
+
+
+def with_overrides(spec: Spec, *, trials: int | None = None, seed: int | None = None,
+                   batch_size: int | None = None) -> Spec:  # fmt: skip
+    """A copy of ``spec`` with campaign fields replaced (validated)."""
+    changes = {k: v for k, v in (("trials", trials), ("seed", seed), ("batch_size", batch_size)) if v is not None}
+    if not changes:
+        return spec
+    try:
+        campaign = dataclasses.replace(spec.campaign, **changes)
+    except ParameterError as exc:
+        raise exc.with_prefix("campaign") from None
+    return dataclasses.replace(spec, campaign=campaign)
+
+
+def _failed_batch(trials: np.ndarray, reason: str) -> dict[str, np.ndarray]:
+    n = trials.size
+    cols: dict[str, np.ndarray] = {}
+    for name, info in METRICS.items():
+        if info.kind == "float":
+            cols[name] = np.full(n, np.nan)
+        elif info.kind == "bool":
+            cols[name] = np.zeros(n, dtype=bool)
+    cols["ended"] = np.full(n, "failed", dtype=object)
+    cols["failed"] = np.ones(n, dtype=bool)
+    cols["failure_reason"] = np.full(n, reason, dtype=object)
+    return cols
+
+
+def evaluate_verdicts(spec: Spec, metrics: Any) -> list[Verdict]:
+    """A verdict for each requirement of ``spec`` from a metrics table.
+
+    The bootstrap of each requirement draws from its own generator, seeded
+    by the campaign seed and the requirement's name, so verdicts are
+    reproducible.
+    """
+    out = []
+    for name, req in spec.requirements:
+        rng = np.random.default_rng([spec.campaign.seed, zlib.crc32(f"verdict.{name}".encode())])
+        values = metrics[req.metric].to_numpy(dtype=float)
+        out.append(evaluate_requirement(
+            name, values, metric=req.metric, comparator=req.comparator, threshold=req.threshold,
+            probability=req.probability, confidence=req.confidence, unit=req.unit, rng=rng,
+        ))  # fmt: skip
+    return out
+
+
+def run_campaign(
+    spec: Spec,
+    *,
+    trials: int | None = None,
+    seed: int | None = None,
+    batch_size: int | None = None,
+    record: bool = True,
+    progress: bool = True,
+    guide_factory: Callable[[Any], Any] | None = None,
+    pilot_factory: Callable[[Any], Any] | None = None,
+) -> CampaignResult:
+    """Run a campaign inline, in vectorised batches.
+
+    Parameters
+    ----------
+    spec : Spec
+    trials, seed, batch_size : int, optional
+        Override the spec's ``[campaign]`` values.
+    record : bool
+        Keep the decimated time series.
+    progress : bool
+        Show a progress bar (tqdm; in a terminal or a notebook).
+    guide_factory, pilot_factory : callable, optional
+        ``factory(setup)`` returns a guide / pilot replacing the spec's
+        built-in one for a batch (e.g. a user block or a per-trial adapter
+        built from ``setup.env.trials.trials``).
+
+    Returns
+    -------
+    CampaignResult
+
+    Raises
+    ------
+    ParameterError
+        For a spec the craft cannot sail (checked before any trial runs).
+    """
+    import pandas as pd
+    import xarray as xr
+
+    spec = with_overrides(spec, trials=trials, seed=seed, batch_size=batch_size)
+    check_spec_against_craft(spec)
+    c = spec.campaign
+    pilot = pilot_for(spec, spec.craft.build())
+    start = time.perf_counter()
+    frames, records = [], []
+    complete = False
+    bar = tqdm(total=c.trials, desc="campaign", unit="trial", disable=not progress, smoothing=0.1)
+    try:
+        for lo in range(0, c.trials, c.batch_size):
+            idx = np.arange(lo, min(lo + c.batch_size, c.trials))
+            env = build_environment(spec, TrialStreams(c.seed, idx))
+            params = {f"param.{k}": np.asarray(v, dtype=float) for k, v in env.draws.items()}
+            try:
+                setup = build_trial_setup(spec, env, pilot=pilot)
+                res: BatchResult | None = run_batch(
+                    spec, setup, record=record,
+                    guide=guide_factory(setup) if guide_factory else None,
+                    pilot=pilot_factory(setup) if pilot_factory else None,
+                    on_progress=lambda f, n=idx.size: bar.update(f * n),
+                )  # fmt: skip
+                cols = res.metrics
+            except (ArithmeticError, ValueError, FloatingPointError, RuntimeError) as exc:
+                warnings.warn(f"trials {idx[0]}-{idx[-1]} failed: {exc}", WavebenchWarning, stacklevel=2)
+                cols = _failed_batch(idx, f"error: {type(exc).__name__}: {exc}")
+                res = None
+            frames.append(pd.DataFrame({"trial": idx.astype(np.int64), **cols, **params}))
+            if record and res is not None and res.record is not None:
+                records.append(res.record.to_dataset(idx, res.time_s, {}))
+            bar.n = min(lo + idx.size, c.trials)
+            bar.refresh()
+        complete = True
+    except KeyboardInterrupt:
+        warnings.warn("campaign interrupted: keeping the batches that finished", WavebenchWarning, stacklevel=2)
+    finally:
+        bar.close()
+    wall = time.perf_counter() - start
+    metrics = pd.concat(frames, ignore_index=True) if frames else pd.DataFrame({"trial": []})
+    for name, info in METRICS.items():
+        if info.kind == "text" and name in metrics:
+            metrics[name] = metrics[name].astype(str)
+    timeseries = None
+    if record and records:
+        timeseries = xr.concat(records, dim="trial")
+        timeseries.attrs.update(spec_hash=spec_hash(spec), scenario=spec.scenario.name,
+                                decimation_s=float(spec.campaign.record_interval_s))  # fmt: skip
+        for name, (units, long_name) in SIGNALS.items():
+            if name in timeseries:
+                timeseries[name].attrs.update(units=units, long_name=long_name)
+    verdicts = evaluate_verdicts(spec, metrics) if len(metrics) else []
+    return CampaignResult(spec=spec, metrics=metrics, timeseries=timeseries, verdicts=verdicts, wall_time_s=wall,
+                          batch_size=c.batch_size, complete=complete)  # fmt: skip

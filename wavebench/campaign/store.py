@@ -1,0 +1,144 @@
+"""The on-disk store of a campaign: one folder, plain open formats.
+
+Layout of a store folder ``DIR``:
+
+``spec.toml``
+    The spec as run, canonical TOML (:func:`~wavebench.spec.io.dump_spec`).
+``manifest.json``
+    ``format = "wavebench-store"``, ``format_version``, ``spec_hash``,
+    ``seed``, ``trials``, ``batch_size``, ``complete``, ``created_utc``,
+    ``wall_time_s``, ``wavebench_version``, ``python``, ``platform``,
+    ``packages`` (versions), ``scenario``, ``craft``.
+``metrics.parquet``
+    One row per trial: ``trial``, the metrics of
+    :data:`~wavebench.analysis.metric_names.METRICS` and one
+    ``param.<toml path>`` column per drawn spec field.
+``timeseries.nc``
+    The recorded signals, dims (trial, time), units and long names
+    (NetCDF4 through h5netcdf); absent when recording was off.
+``verdicts.json``
+    A list of verdicts (:meth:`~wavebench.analysis.verdicts.Verdict.to_dict`).
+``report.html``
+    Written by ``wavebench report DIR``.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import json
+import os
+import platform
+import sys
+from importlib import metadata
+from pathlib import Path
+from typing import Any
+
+from ..analysis.verdicts import Verdict
+from ..core.errors import ParameterError
+from ..spec.io import dump_spec, load_spec, spec_hash
+from .executor import CampaignResult
+
+__all__ = ["STORE_FORMAT", "STORE_FORMAT_VERSION", "package_versions", "read_store", "write_store"]
+
+STORE_FORMAT = "wavebench-store"
+STORE_FORMAT_VERSION = 1
+_PACKAGES = ("wavebench", "numpy", "scipy", "numba", "xarray", "pandas", "pyarrow", "h5netcdf", "pymap3d")
+
+
+def package_versions() -> dict[str, str]:
+    """Installed versions of the packages that shape the numbers."""
+    out = {}
+    for name in _PACKAGES:
+        try:
+            out[name] = metadata.version(name)
+        except metadata.PackageNotFoundError:
+            out[name] = "not installed"
+    return out
+
+
+def write_store(result: CampaignResult, out_dir: str | os.PathLike[str]) -> Path:
+    """Write a campaign's results to a store folder (created if needed).
+
+    Parameters
+    ----------
+    result : CampaignResult
+    out_dir : path-like
+        The folder; existing store files in it are replaced.
+
+    Returns
+    -------
+    Path
+        The folder.
+    """
+    out = Path(out_dir)
+    if out.exists() and not out.is_dir():
+        raise ParameterError("out", str(out), "must be a folder (it exists and is a file)")
+    out.mkdir(parents=True, exist_ok=True)
+    spec = result.spec
+    (out / "spec.toml").write_text(dump_spec(spec), encoding="utf-8")
+    result.metrics.to_parquet(out / "metrics.parquet", index=False)
+    nc = out / "timeseries.nc"
+    if result.timeseries is not None:
+        result.timeseries.to_netcdf(nc, engine="h5netcdf")
+    elif nc.exists():
+        nc.unlink()
+    verdicts = [v.to_dict() for v in result.verdicts]
+    (out / "verdicts.json").write_text(json.dumps(verdicts, indent=1, allow_nan=False), encoding="utf-8")
+    versions = package_versions()
+    manifest = {
+        "format": STORE_FORMAT,
+        "format_version": STORE_FORMAT_VERSION,
+        "spec_hash": spec_hash(spec),
+        "seed": spec.campaign.seed,
+        "trials": len(result.metrics),
+        "batch_size": result.batch_size,
+        "complete": result.complete,
+        "created_utc": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
+        "wall_time_s": round(result.wall_time_s, 3),
+        "wavebench_version": versions["wavebench"],
+        "python": sys.version.split()[0],
+        "platform": platform.platform(),
+        "machine": platform.machine(),
+        "packages": versions,
+        "scenario": spec.scenario.name,
+        "craft": spec.craft.build().name,
+    }
+    (out / "manifest.json").write_text(json.dumps(manifest, indent=1), encoding="utf-8")
+    return out
+
+
+def read_store(store_dir: str | os.PathLike[str]) -> dict[str, Any]:
+    """Read a store folder back.
+
+    Returns
+    -------
+    dict
+        ``spec`` (Spec), ``manifest`` (dict), ``metrics`` (DataFrame),
+        ``timeseries`` (Dataset or None), ``verdicts`` (list of Verdict).
+
+    Raises
+    ------
+    ParameterError
+        When the folder is not a wavebench store.
+    """
+    import pandas as pd
+    import xarray as xr
+
+    d = Path(store_dir)
+    man_path = d / "manifest.json"
+    if not man_path.is_file():
+        raise ParameterError("store", str(d), "must be a folder written by 'wavebench run' (no manifest.json)")
+    manifest = json.loads(man_path.read_text(encoding="utf-8"))
+    if manifest.get("format") != STORE_FORMAT:
+        raise ParameterError("store", str(d), f"manifest.json must have format '{STORE_FORMAT}'")
+    ts = None
+    if (d / "timeseries.nc").is_file():
+        ts = xr.load_dataset(d / "timeseries.nc", engine="h5netcdf")
+    verdicts = [Verdict.from_dict(v) for v in json.loads((d / "verdicts.json").read_text(encoding="utf-8"))]
+    return {
+        "spec": load_spec(d / "spec.toml"),
+        "manifest": manifest,
+        "metrics": pd.read_parquet(d / "metrics.parquet"),
+        "timeseries": ts,
+        "verdicts": verdicts,
+    }
