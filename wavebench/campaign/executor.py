@@ -173,6 +173,8 @@ def run_campaign(
                     on_progress=lambda f, n=idx.size: bar.update(f * n),
                 )  # fmt: skip
                 cols = res.metrics
+            except ParameterError:
+                raise  # a configuration error (e.g. the wiring): no trial can run
             except (ArithmeticError, ValueError, FloatingPointError, RuntimeError) as exc:
                 warnings.warn(f"trials {idx[0]}-{idx[-1]} failed: {exc}", WavebenchWarning, stacklevel=2)
                 cols = _failed_batch(idx, f"error: {type(exc).__name__}: {exc}")

@@ -159,6 +159,13 @@ def run_batch(
         if setup.windage is not None:
             tau = tau + wind_loads_on_craft(setup.windage, env.wind.state, t, nu[:, 0], nu[:, 1], eta[:, 2])
         power = act.power_w(mid_act, nu_r)
+        bad_tau = ~np.all(np.isfinite(tau), axis=1)
+        if np.any(bad_tau):
+            acc.fail(bad_tau, f"non-finite actuator demand at t = {t:.1f} s")
+            tau[bad_tau] = 0.0
+            act_state[bad_tau] = 0.0
+            power = np.where(bad_tau, 0.0, power)
+            active = acc.active
         if rec is not None and tick % rec_every == 0:
             rec.record(tick // rec_every, active, {
                 "north_m": eta[:, 0], "east_m": eta[:, 1], "heading_deg": np.degrees(eta[:, 2]),
