@@ -8,7 +8,9 @@ time steps) the loop
 3. steps the pilot (surge force and rudder);
 4. turns the demand into actuator commands and moves the actuators over the
    period (lags and rate limits), holding their mean force;
-5. adds the wind load at the start of the period and the current there;
+5. adds the wind load at the start of the period (the wind speed tabulated
+   on the control grid, :func:`~wavebench.sea.gust_table.wind_speed_table`)
+   and the current there;
 6. advances the craft through its sea with the compiled kernel
    (:func:`~wavebench.craft.kernel.advance`, RK4, wave drift inside).
 
@@ -33,8 +35,9 @@ from ..analysis.metrics import MetricAccumulator
 from ..craft.hull import relative_velocity
 from ..craft.kernel import advance
 from ..sea.current import current_velocity_ned
+from ..sea.gust_table import wind_speed_table
 from ..sea.seabed import depth_under_keel
-from ..sea.wind import wind_loads_on_craft
+from ..sea.wind import relative_wind, wind_loads
 from ..spec.schema import Spec
 from .blocks import BatchGuide, BatchPilot
 from .recorder import Recorder
@@ -128,6 +131,8 @@ def run_batch(
     draft = float(np.max(env.craft.hull.draft_m))
     cur_model = env.current
     steps_run = 0
+    # the wind speed on the control grid, once (the gust sum is the costliest environment term)
+    wind_tab = wind_speed_table(env.wind.state, 0.0, period, n_ticks) if setup.windage is not None else None
     report_every = max(n_ticks // 100, 1)
     for tick in range(n_ticks):
         t = tick * period
@@ -156,8 +161,11 @@ def run_batch(
         mid_act = 0.5 * (act_state + new_act)
         act_state = new_act
         tau = act.tau(mid_act, nu_r)
-        if setup.windage is not None:
-            tau = tau + wind_loads_on_craft(setup.windage, env.wind.state, t, nu[:, 0], nu[:, 1], eta[:, 2])
+        if wind_tab is not None:
+            v_rw, gamma = relative_wind(
+                nu[:, 0], nu[:, 1], eta[:, 2], wind_tab[:, tick], env.wind.state.direction_from_rad
+            )
+            tau = tau + wind_loads(setup.windage, v_rw, gamma)
         power = act.power_w(mid_act, nu_r)
         bad_tau = ~np.all(np.isfinite(tau), axis=1)
         if np.any(bad_tau):
