@@ -247,17 +247,10 @@ def test_example_craft_pasted_in_place_of_craft_gives_the_same_craft(capsys: pyt
 # ---------------------------------------------------------------------------
 # the second built-in scenario (survey over the synthetic bay), shortened
 # ---------------------------------------------------------------------------
-# `wavebench demo dulse_bay --trials 2` is not run here: at the time of writing it
-# stops at once with "natural_frequency_rad_s = 0.3 is not allowed" (see below), and
-# its full 900 s run would be too long for this file anyway.
+# `wavebench demo dulse_bay --trials 2` is not run here: its full 900 s run would be
+# too long for this file; a shortened copy runs below.
 
 
-@pytest.mark.xfail(
-    strict=True,
-    raises=AssertionError,
-    reason="library bug: the default speed-loop bandwidth (SPEED_LOOP_WN_RAD_S = 0.3 rad/s) gives a "
-    "negative kp for Dulse at 1.5 m/s, so the built-in dulse_bay spec cannot run",
-)
 def test_dulse_bay_runs_with_its_default_pilot(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
     spec = shortened("dulse_bay", tmp_path)
     status = main(["run", str(spec), "--out", str(tmp_path / "store"), "--trials", "2", "--no-record", "--quiet"])
@@ -265,7 +258,7 @@ def test_dulse_bay_runs_with_its_default_pilot(tmp_path: Path, capsys: pytest.Ca
 
 
 def test_dulse_bay_survey_over_the_bay_runs_with_a_faster_speed_loop(tmp_path: Path) -> None:
-    # workaround for the bug above: a speed-loop bandwidth with kp = 2 zeta w_n m - d >= 0
+    # a speed-loop bandwidth given in the spec (kp = 2 zeta w_n m - d >= 0)
     spec = shortened("dulse_bay", tmp_path, speed_natural_frequency_rad_s=0.5)
     out = tmp_path / "store"
     status, stdout = run_cli(["run", str(spec), "--out", str(out), "--trials", "2", "--no-record", "--quiet"])

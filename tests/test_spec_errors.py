@@ -264,12 +264,6 @@ def test_cli_run_reports_one_line_and_exit_status_2(
     assert not out_dir.exists()
 
 
-@pytest.mark.xfail(
-    strict=True,
-    raises=UnicodeDecodeError,
-    reason="library bug: load_spec reads the file with read_text(encoding='utf-8') and the "
-    "UnicodeDecodeError escapes cli.main (it catches ParameterError and OSError only)",
-)
 def test_cli_run_on_a_file_that_is_not_utf8(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
     # TOML v1.0.0: "A TOML file must be a valid UTF-8 encoded Unicode document." A Latin-1 byte breaks that.
     spec_file = tmp_path / "latin1.toml"

@@ -76,7 +76,10 @@ def load_spec(source: str | os.PathLike[str]) -> Spec:
         path = Path(source)
         if not path.is_file():
             raise ParameterError("spec", str(path), "no such spec file")
-        text = path.read_text(encoding="utf-8")
+        try:
+            text = path.read_text(encoding="utf-8")
+        except UnicodeDecodeError as exc:
+            raise ParameterError(str(path), f"byte {exc.start}", "must be UTF-8 text (TOML files are UTF-8)") from None
         where = str(path)
     else:
         text, where = str(source), "spec"

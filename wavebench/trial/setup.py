@@ -20,7 +20,8 @@ Derived defaults (each our choice unless a source is named):
   yaw rate limited to half the Nomoto steady turn rate at full rudder
   ``K delta_max / 2``.
 * Speed loop: PI on ``m11 u_dot + d u = X`` with ``d`` the surge damping
-  linearised at the nominal speed, ``w_n = 0.3 rad/s``, limited to the
+  linearised at the nominal speed, ``w_n = max(0.3 rad/s, d / (zeta m11))``
+  (so that ``kp >= d > 0``), limited to the
   full-ahead surge force; plus the steady-thrust feed-forward.
 * Windage (when the spec has wind): an above-water profile of height
   ``0.4 B`` over the hull's length and beam (an assumed demo value, no
@@ -176,8 +177,14 @@ def pilot_for(spec: Spec, craft: CraftParams) -> NomotoPidPilot:
     h = craft.hull
     m11 = float(h.mass_kg - h.x_udot)
     d_lin = float(-h.x_u - 2.0 * h.x_uu * u0)
-    speed = speed_pi_gains(m11, d_lin, natural_frequency_rad_s=ps.speed_natural_frequency_rad_s or SPEED_LOOP_WN_RAD_S,
-                           damping_ratio=ps.speed_damping_ratio, output_max_n=_full_ahead_n(craft))  # fmt: skip
+    zeta_u = ps.speed_damping_ratio
+    wn_u = ps.speed_natural_frequency_rad_s or max(SPEED_LOOP_WN_RAD_S, d_lin / (zeta_u * m11))
+    try:
+        speed = speed_pi_gains(m11, d_lin, natural_frequency_rad_s=wn_u, damping_ratio=zeta_u,
+                               output_max_n=_full_ahead_n(craft))  # fmt: skip
+    except ParameterError as exc:
+        raise ParameterError("stack.pilot.speed_natural_frequency_rad_s", wn_u,
+                             f"{exc.allowed} (surge m = {m11:.1f} kg, d = {d_lin:.1f} kg/s)") from None  # fmt: skip
     reference = None
     if ps.reference_model:
         r_max = math.radians(ps.yaw_rate_max_deg_s) if ps.yaw_rate_max_deg_s else 0.5 * k * delta_max
