@@ -92,6 +92,22 @@ def test_split_calls_and_batch_slicing_are_bit_identical() -> None:
     assert np.array_equal(e4[0], e_one[4]) and np.array_equal(v4[0], v_one[4])
 
 
+def test_workspace_keeps_weights_between_one_step_calls_without_changing_a_bit() -> None:
+    n = 5
+    plant = _plant(n)
+    pilot = _pilot(n, np.linspace(-2.0, 2.0, n))
+    eta0, nu0 = np.zeros((n, 3)), np.zeros((n, 3))
+    e_one, v_one, w_one = advance(plant, eta0, nu0, 0, 0.1, 300, pilot=pilot)
+    ws = plant.workspace()
+    e, v, w = eta0, nu0, None
+    for k in range(300):
+        e, v, w = advance(plant, e, v, k, 0.1, 1, pilot=pilot, drift_heading_rad=w, workspace=ws)
+    assert np.array_equal(e, e_one) and np.array_equal(v, v_one) and np.array_equal(w, w_one)
+    assert np.array_equal(ws.heading_rad, w)
+    with pytest.raises(ParameterError, match="workspace"):
+        advance(plant, e, v, 0, 0.1, 1, workspace=_plant(2).workspace())
+
+
 def test_calm_water_steady_speed_is_the_damping_root() -> None:
     # Fossen (2021) ch. 6 damping model: at steady straight motion
     # X_u u + X_|u|u u|u| + T = 0, so u = (-X_u - sqrt(X_u^2 - 4 X_uu T)) / (2 X_uu).

@@ -221,7 +221,7 @@ def _fmt_probability(p: float) -> str:
     """A probability with at least 2 and at most 6 decimals, e.g. 0.9 -> '0.90', 0.995 -> '0.995'."""
     for digits in range(2, 7):
         s = f"{p:.{digits}f}"
-        if float(s) == p:
+        if abs(float(s) - p) <= 1e-12:
             return s
     return f"{p:.6f}"
 

@@ -52,7 +52,7 @@ from ..sea.drift import DriftModel, drift_force
 from ..sea.realisation import WaveComponents
 from .hull import HullCoefficients, HullParams, derivative, hull_coefficients, param_batch_size
 
-__all__ = ["DRIFT_SAMPLINGS", "HoldPilot", "Plant", "advance", "advance_reference"]
+__all__ = ["DRIFT_SAMPLINGS", "DriftWorkspace", "HoldPilot", "Plant", "advance", "advance_reference"]
 
 #: Allowed values of :attr:`Plant.drift_sampling`.
 DRIFT_SAMPLINGS = ("midpoint", "stages")
@@ -118,6 +118,22 @@ class HoldPilot:
 
 
 @dataclass(frozen=True)
+class DriftWorkspace:
+    """Newman weights kept between kernel calls (see :func:`advance`).
+
+    Parameters
+    ----------
+    weights : ndarray of shape (n_trials, 6, K_padded)
+        The weights, valid for ``heading_rad``.
+    heading_rad : ndarray of shape (n_trials,)
+        Drift heading the weights were computed at (NaN: not yet computed).
+    """
+
+    weights: NDArray[np.float64]
+    heading_rad: NDArray[np.float64]
+
+
+@dataclass(frozen=True)
 class Plant:
     """Hull coefficients and wave drift of one batch, ready for :func:`advance`.
 
@@ -167,9 +183,7 @@ class Plant:
         if isinstance(hull, HullParams):
             size = param_batch_size(hull)
             if size is not None and size != n_trials:
-                raise ParameterError(
-                    "hull", size, f"per-trial hull parameters must have length n_trials = {n_trials}"
-                )
+                raise ParameterError("hull", size, f"per-trial hull parameters must have length n_trials = {n_trials}")
         if (components is None) != (drift is None):
             raise ParameterError("drift", drift, "give both components and drift, or neither")
         if components is not None and components.n_trials != n_trials:
@@ -186,6 +200,11 @@ class Plant:
             drift_heading_tol_rad=float(drift_heading_tol_rad),
             drift_sampling=drift_sampling,
         )
+
+    def workspace(self) -> DriftWorkspace:
+        """A fresh :class:`DriftWorkspace` for this plant (one per run; not shared between runs)."""
+        k = self.packed_waves[0].shape[2]
+        return DriftWorkspace(weights=np.zeros((self.n_trials, 6, k)), heading_rad=np.full(self.n_trials, np.nan))
 
     @functools.cached_property
     def packed_hull(self) -> NDArray[np.float64]:
@@ -240,6 +259,7 @@ def advance(
     current_ned: ArrayLike | None = None,
     pilot: HoldPilot | None = None,
     drift_heading_rad: ArrayLike | None = None,
+    workspace: DriftWorkspace | None = None,
 ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
     """Advance every trial ``n_steps`` RK4 steps (compiled kernel).
 
@@ -268,6 +288,10 @@ def advance(
     drift_heading_rad : ndarray of shape (n_trials,), optional
         Heading at which the Newman weights were last computed [rad]
         (returned by the previous call); the current heading when omitted.
+    workspace : DriftWorkspace, optional
+        Newman weights kept between calls (:meth:`Plant.workspace`), so a
+        loop that calls the kernel for one step at a time does not recompute
+        them at every call. The results are the same bits with or without it.
 
     Returns
     -------
@@ -284,9 +308,16 @@ def advance(
     use_pilot = pilot is not None
     pil = pilot.packed(n) if pilot is not None else np.zeros((n, 7))
     waves, roots = plant.packed_waves
+    if workspace is None:
+        wbuf, wpsi, use_ws = np.zeros((1, 6, waves.shape[2])), np.zeros(1), False
+    else:
+        if workspace.weights.shape != (n, 6, waves.shape[2]):
+            raise ParameterError("workspace", workspace.weights.shape, "must come from this plant's workspace()")
+        wbuf, wpsi, use_ws = workspace.weights, workspace.heading_rad, True
     _advance_kernel(
         eta_a, nu_a, psi_w, tau_a, cur_a, plant.packed_hull, waves, roots, pil, use_pilot,
         int(step0), float(dt_s), int(n_steps), plant.drift_heading_tol_rad, plant.drift_sampling == "midpoint",
+        wbuf, wpsi, use_ws,
     )  # fmt: skip
     return eta_a, nu_a, psi_w
 
@@ -401,7 +432,8 @@ def _weights(w: np.ndarray, beta: np.ndarray, scale: np.ndarray, roots: np.ndarr
 
 
 @numba.njit(parallel=True, cache=True, fastmath={"reassoc", "contract"})
-def _advance_kernel(eta, nu, psi_w, tau, cur, hull, waves, roots, pil, use_pilot, step0, dt, n_steps, tol, midpoint):
+def _advance_kernel(eta, nu, psi_w, tau, cur, hull, waves, roots, pil, use_pilot, step0, dt, n_steps, tol, midpoint,
+                    wbuf, wpsi, use_ws):  # fmt: skip
     n = eta.shape[0]
     n_comp = waves.shape[2]
     for i in numba.prange(n):
@@ -412,14 +444,14 @@ def _advance_kernel(eta, nu, psi_w, tau, cur, hull, waves, roots, pil, use_pilot
         ep = waves[i, 3]
         scale = waves[i, 4]
         beta = waves[i, 5]
-        w = np.zeros((6, n_comp))
+        w = wbuf[i] if use_ws else np.zeros((6, n_comp))
         cb = np.empty(n_comp)
         sb = np.empty(n_comp)
         x, y, psi = eta[i, 0], eta[i, 1], eta[i, 2]
         u, v, r = nu[i, 0], nu[i, 1], nu[i, 2]
         vcn, vce = cur[i, 0], cur[i, 1]
         pw = psi_w[i]
-        if n_comp > 0:
+        if n_comp > 0 and not (use_ws and wpsi[i] == pw):
             _weights(w, beta, scale, roots, pw)
         for step in range(n_steps):
             t = (step0 + step) * dt
@@ -473,6 +505,8 @@ def _advance_kernel(eta, nu, psi_w, tau, cur, hull, waves, roots, pil, use_pilot
         eta[i, 0], eta[i, 1], eta[i, 2] = x, y, psi
         nu[i, 0], nu[i, 1], nu[i, 2] = u, v, r
         psi_w[i] = pw
+        if use_ws:
+            wpsi[i] = pw
 
 
 def advance_reference(
@@ -493,9 +527,7 @@ def advance_reference(
     oracle for the compiled kernel and the fallback where numba is not
     wanted; it runs at numpy float64 speed.
     """
-    eta, nu, tau0, cur, psi_w = _prepare(
-        plant, eta, nu, step0, dt_s, n_steps, tau_ext, current_ned, drift_heading_rad
-    )
+    eta, nu, tau0, cur, psi_w = _prepare(plant, eta, nu, step0, dt_s, n_steps, tau_ext, current_ned, drift_heading_rad)
     comps, model = plant.components, plant.drift
     waves = comps is not None and model is not None
 

@@ -125,6 +125,7 @@ def run_batch(
     act = setup.actuation
     eta, nu, act_state = setup.eta0.copy(), setup.nu0.copy(), setup.act0.copy()
     psi_w = None
+    workspace = env.plant.workspace()
     nav = truth_nav(0.0, eta, nu)
     g_state = guide.init(nav)
     p_state = pilot.init(nav)
@@ -183,7 +184,7 @@ def run_batch(
             })  # fmt: skip
         prev = eta[:, :2].copy()
         eta, nu, psi_w = advance(env.plant, eta, nu, tick * k, dt, k, tau_ext=tau, current_ned=cur,
-                                 drift_heading_rad=psi_w)  # fmt: skip
+                                 drift_heading_rad=psi_w, workspace=workspace)  # fmt: skip
         steps_run += k
         acc.motion(active, np.hypot(eta[:, 0] - prev[:, 0], eta[:, 1] - prev[:, 1]), power)
         bad = ~(np.all(np.isfinite(eta), axis=1) & np.all(np.isfinite(nu), axis=1))
