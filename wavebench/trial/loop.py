@@ -32,6 +32,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ..analysis.metrics import MetricAccumulator
+from ..core.errors import ParameterError
 from ..craft.hull import relative_velocity
 from ..craft.kernel import advance
 from ..sea.current import current_velocity_ned
@@ -40,8 +41,20 @@ from ..sea.seabed import depth_under_keel
 from ..sea.wind import relative_wind, wind_loads
 from ..spec.schema import Spec
 from .blocks import BatchGuide, BatchPilot
+from .compiled import (
+    OUT_DONE,
+    OUT_HEADING_D,
+    OUT_LEG,
+    OUT_POWER,
+    OUT_SPEED_D,
+    OUT_TAU,
+    OUT_XTE,
+    CompiledStack,
+    compiled_tick,
+)
 from .recorder import Recorder
 from .setup import TrialSetup, truth_nav
+from .signals import GuideOutput
 from .wiring import check_wiring
 
 __all__ = ["RUNAWAY_SPEED_MPS", "RUNAWAY_YAW_RATE_RAD_S", "BatchResult", "run_batch"]
@@ -87,6 +100,7 @@ def run_batch(
     pilot: BatchPilot | None = None,
     record: bool = True,
     on_progress: Callable[[float], Any] | None = None,
+    compiled: bool | None = None,
 ) -> BatchResult:
     """Run one batch of trials to the end of the scenario.
 
@@ -104,14 +118,24 @@ def run_batch(
         Keep the decimated time series.
     on_progress : callable, optional
         Called with the fraction of the batch's control periods just done.
+    compiled : bool, optional
+        Run the spec's own guide, pilot and actuators as one compiled call
+        per control period (:mod:`wavebench.trial.compiled`); the default
+        when no block is replaced. False runs the numpy blocks (the
+        compiled path's oracle).
 
     Returns
     -------
     BatchResult
     """
+    built_in = guide is None and pilot is None
     guide = guide or setup.guide
     pilot = pilot or setup.pilot
     check_wiring(guide, pilot)
+    if compiled is None:
+        compiled = built_in
+    elif compiled and not built_in:
+        raise ParameterError("compiled", compiled, "the compiled tick runs the spec's own guide and pilot only")
     env = setup.env
     n = env.n_trials
     dt = spec.scenario.dt_s
@@ -127,19 +151,42 @@ def run_batch(
     psi_w = None
     workspace = env.plant.workspace()
     nav = truth_nav(0.0, eta, nu)
-    g_state = guide.init(nav)
-    p_state = pilot.init(nav)
+    if compiled:
+        stack = CompiledStack.pack(setup.guide, setup.pilot, act)
+        tstate = stack.init_state(eta[:, 2], act_state)
+        act_state = tstate.act
+    else:
+        g_state = guide.init(nav)
+        p_state = pilot.init(nav)
     draft = float(np.max(env.craft.hull.draft_m))
     cur_model = env.current
     steps_run = 0
+    zero_cur = np.zeros((n, 2))
     # the wind speed on the control grid, once (the gust sum is the costliest environment term)
     wind_tab = wind_speed_table(env.wind.state, 0.0, period, n_ticks) if setup.windage is not None else None
     report_every = max(n_ticks // 100, 1)
     for tick in range(n_ticks):
         t = tick * period
-        nav = truth_nav(t, eta, nu)
-        g_state, gout = guide.step(g_state, nav, period)
-        p_state, pout = pilot.step(p_state, nav, gout, period)
+        cur = None
+        if cur_model is not None:
+            cur = current_velocity_ned(cur_model.model, cur_model.state, eta[:, 0], eta[:, 1], 0.0, t)
+        if compiled:
+            out = compiled_tick(stack, tstate, eta, nu, zero_cur if cur is None else cur, period)
+            gout = GuideOutput(heading_d_rad=out[:, OUT_HEADING_D], speed_d_mps=out[:, OUT_SPEED_D],
+                               cross_track_m=out[:, OUT_XTE], leg=out[:, OUT_LEG].astype(np.int64),
+                               done=out[:, OUT_DONE] > 0.5)  # fmt: skip
+            tau = out[:, OUT_TAU : OUT_TAU + 3].copy()
+            power = out[:, OUT_POWER].copy()
+        else:
+            nav = truth_nav(t, eta, nu)
+            g_state, gout = guide.step(g_state, nav, period)
+            p_state, pout = pilot.step(p_state, nav, gout, period)
+            nu_r = relative_velocity(eta, nu, cur)
+            new_act = act.step(act_state, act.command(pout), period)
+            mid_act = 0.5 * (act_state + new_act)
+            act_state = new_act
+            tau = act.tau(mid_act, nu_r)
+            power = act.power_w(mid_act, nu_r)
         active = acc.active
         acc.complete(gout.done, t)
         active = acc.active
@@ -151,23 +198,12 @@ def run_batch(
             acc.depth(active, dukc)
             acc.fail(dukc < 0.0, f"grounded at t = {t:.1f} s", grounded=True)
         active = acc.active
-        acc.sample(tick, active, gout.cross_track_m, nav.heading_rad, gout.heading_d_rad, nav.surge_mps,
-                   gout.speed_d_mps)  # fmt: skip
-        cur = None
-        if cur_model is not None:
-            cur = current_velocity_ned(cur_model.model, cur_model.state, eta[:, 0], eta[:, 1], 0.0, t)
-        nu_r = relative_velocity(eta, nu, cur)
-        command = act.command(pout)
-        new_act = act.step(act_state, command, period)
-        mid_act = 0.5 * (act_state + new_act)
-        act_state = new_act
-        tau = act.tau(mid_act, nu_r)
+        acc.sample(tick, active, gout.cross_track_m, eta[:, 2], gout.heading_d_rad, nu[:, 0], gout.speed_d_mps)
         if wind_tab is not None:
             v_rw, gamma = relative_wind(
                 nu[:, 0], nu[:, 1], eta[:, 2], wind_tab[:, tick], env.wind.state.direction_from_rad
             )
             tau = tau + wind_loads(setup.windage, v_rw, gamma)
-        power = act.power_w(mid_act, nu_r)
         bad_tau = ~np.all(np.isfinite(tau), axis=1)
         if np.any(bad_tau):
             acc.fail(bad_tau, f"non-finite actuator demand at t = {t:.1f} s")
