@@ -27,7 +27,7 @@ def test_compiled_tick_gives_the_numpy_blocks_bits(name: str) -> None:
     for key, arr in fast.record.data.items():
         np.testing.assert_array_equal(arr, slow.record.data[key], err_msg=key)
     # the run did something worth comparing: the craft sailed and steered
-    assert np.all(fast.metrics["distance_m"] > 90.0) and np.all(fast.metrics["energy_kj"] > 0.0)
+    assert np.all(fast.metrics["distance_m"] > 50.0) and np.all(fast.metrics["energy_kj"] > 0.0)
     assert np.nanmax(np.abs(fast.record.data["yaw_rate_dps"])) > 0.5
 
 
