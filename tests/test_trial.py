@@ -176,3 +176,16 @@ def test_power_is_the_actuator_disc_figure_in_calm_water() -> None:
     np.testing.assert_allclose(recorded, power, rtol=0.01)
     assert res.metrics["speed_err_rms_mps"][0] < 0.01
     assert res.metrics["xte_max_m"][0] < 1e-6
+
+
+def test_record_signals_choose_what_is_kept() -> None:
+    from wavebench.spec.tables import SIGNAL_NAMES
+    from wavebench.trial.recorder import SIGNALS
+
+    assert tuple(SIGNALS) == SIGNAL_NAMES
+    spec = short_spec(trials=2, duration_s=5.0)
+    spec = dataclasses.replace(spec, campaign=dataclasses.replace(spec.campaign, record_signals=["xte_m", "power_w"]))
+    ts = run_campaign(spec, progress=False).timeseries
+    assert sorted(ts.data_vars) == ["power_w", "xte_m"]
+    with pytest.raises(ParameterError, match=r"record_signals\[0\] = 'xte' .*did you mean 'xte_m'"):
+        dataclasses.replace(spec.campaign, record_signals=["xte"])

@@ -59,6 +59,7 @@ __all__ = [
     "representative",
     "table",
     "text",
+    "texts",
 ]
 
 DIST_TYPES = (Uniform, Normal, TruncatedNormal, LogNormal, Choice)
@@ -105,6 +106,11 @@ def points(default: Any = _MISSING, *, min_len: int = 1, doc: str = "") -> Any:
 def numbers(default: Any = _MISSING, *, bounds: Bounds, min_len: int = 1, unit: str = "", doc: str = "") -> Any:
     """A list of bounded numbers (at least ``min_len``)."""
     return _field(default, {"numbers": bounds, "min_len": min_len, "unit": unit, "doc": doc})
+
+
+def texts(default: Any = _MISSING, *, choices: tuple[str, ...], doc: str = "") -> Any:
+    """A list of distinct strings, each one of ``choices``, stored as a tuple."""
+    return _field(default, {"texts": choices, "doc": doc})
 
 
 def named_tables(cls: type, default: Any = (), *, doc: str = "") -> Any:
@@ -183,6 +189,18 @@ def _validate_fields(obj: Any) -> None:
             object.__setattr__(obj, f.name, _check_points(f.name, value, meta["min_len"]))
         elif "numbers" in meta:
             object.__setattr__(obj, f.name, _check_numbers(f.name, value, meta["numbers"], meta["min_len"]))
+        elif "texts" in meta:
+            choices = meta["texts"]
+            if isinstance(value, (str, bytes, Mapping)) or not isinstance(value, (list, tuple)):
+                raise ParameterError(f.name, value, f"must be a list of names from {list(choices)}")
+            for i, item in enumerate(value):
+                if item not in choices:
+                    close = difflib.get_close_matches(str(item), list(choices), n=1)
+                    raise ParameterError(f"{f.name}[{i}]", item, f"must be one of {list(choices)}",
+                                         f"did you mean '{close[0]}'?" if close else "")  # fmt: skip
+            if len(set(value)) != len(value):
+                raise ParameterError(f.name, list(value), "must not name a signal twice")
+            object.__setattr__(obj, f.name, tuple(value))
         elif "named_tables" in meta:
             cls = meta["named_tables"]
             items = tuple(value.items()) if isinstance(value, Mapping) else value

@@ -20,7 +20,7 @@ from ..craft.catalogue import DEMO_CRAFT_NAMES, CraftParams, demo_craft
 from ..craft.hull import HullParams
 from ..guidance.survey import SurveyParams, check_convex_polygon, survey_waypoints
 from ..sea.seabed import SyntheticBayParams
-from .fields import SpecTable, number, numbers, params, points, representative, table, text
+from .fields import SpecTable, number, numbers, params, points, representative, table, text, texts
 
 __all__ = [
     "EXECUTORS",
@@ -35,6 +35,11 @@ __all__ = [
 ]
 
 _POS = Bounds(gt=0.0)
+#: Signals the recorder can keep (mirrors wavebench.trial.recorder.SIGNALS, checked by a test).
+SIGNAL_NAMES = (
+    "north_m", "east_m", "heading_deg", "surge_mps", "sway_mps", "yaw_rate_dps",
+    "xte_m", "heading_cmd_deg", "speed_cmd_mps", "power_w",
+)  # fmt: skip
 _ANGLE = Bounds(ge=-360.0, le=360.0)
 _ANY = Bounds()
 
@@ -291,7 +296,9 @@ class CampaignSpec(SpecTable):
 
     Results do not depend on ``batch_size`` or ``executor``: they only
     change how the work is cut up. ``record_interval_s`` (a whole number of
-    time steps) decimates the recorded time series; metrics use every step.
+    time steps) decimates the recorded time series; metrics use every
+    control period. ``record_signals`` chooses which signals are kept (all of
+    :data:`~wavebench.trial.recorder.SIGNALS` by default).
     """
 
     trials: int = number(bounds=Bounds(ge=1, integer=True), doc="number of trials")
@@ -299,3 +306,4 @@ class CampaignSpec(SpecTable):
     executor: str = text("inline", choices=EXECUTORS, doc="how trials are run")
     batch_size: int = number(100, bounds=Bounds(ge=1, integer=True), doc="trials per vectorised batch")
     record_interval_s: float = number(1.0, bounds=_POS, unit="s", doc="time-series recording interval")
+    record_signals: tuple = texts(SIGNAL_NAMES, choices=SIGNAL_NAMES, doc="signals to record")

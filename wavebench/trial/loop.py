@@ -144,7 +144,7 @@ def run_batch(
     n_ticks = spec.scenario.n_steps // k
     rec_every = max(spec.record_steps // k, 1)
     n_rec = -(-n_ticks // rec_every)
-    rec = Recorder(n, n_rec) if record else None
+    rec = Recorder(n, n_rec, spec.campaign.record_signals) if record else None
     acc = MetricAccumulator(n, n_ticks, period)
     act = setup.actuation
     eta, nu, act_state = setup.eta0.copy(), setup.nu0.copy(), setup.act0.copy()
