@@ -482,10 +482,10 @@ def test_text_summary_format():
     )
     assert v.text() == (
         "xte within 2 m: PASS  P(xte_p95_m < 2 m) = 0.943 [0.921, 0.960] >= 0.90 required "
-        "(n = 1000, 3 failed trials counted as not met)"
+        "(n = 1000, 3 trials without a value counted as not met)"
     )
     one = dataclasses.replace(v, n_failed=1, verdict="undecided", probability=0.95, unit="")
-    assert one.text().endswith("includes 0.95 required (n = 1000, 1 failed trial counted as not met)")
+    assert one.text().endswith("includes 0.95 required (n = 1000, 1 trial without a value counted as not met)")
     assert "P(xte_p95_m < 2)" in one.text()
     none = dataclasses.replace(v, n_failed=0, verdict="fail", comparator="above", probability=0.995)
     assert none.text() == "xte within 2 m: FAIL  P(xte_p95_m > 2 m) = 0.943 [0.921, 0.960] < 0.995 required (n = 1000)"

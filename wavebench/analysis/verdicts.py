@@ -194,7 +194,9 @@ class Verdict:
         -------
         str
             e.g. ``"xte within 2 m: PASS  P(xte_p95_m < 2 m) = 0.943 [0.921, 0.960] >= 0.90 required
-            (n = 1000, 3 failed trials counted as not met)"``. The relation shown
+            (n = 1000, 3 trials without a value counted as not met)"``. A trial
+            without a value failed, or (for a metric such as the time to
+            complete) never reached the event. The relation shown
             compares the interval with the requirement: ``>=`` (lower bound
             reaches it: pass), ``<`` (upper bound below it: fail) or
             ``includes`` (undecided).
@@ -203,7 +205,7 @@ class Verdict:
         failed = ""
         if self.n_failed:
             trials = "trial" if self.n_failed == 1 else "trials"
-            failed = f", {self.n_failed} failed {trials} counted as not met"
+            failed = f", {self.n_failed} {trials} without a value counted as not met"
         return (
             f"{self.name}: {self.verdict.upper()}  P({self.metric} {_SYMBOL[self.comparator]} "
             f"{_with_unit(_fmt_number(self.threshold), self.unit)}) = {self.p_hat:.3f} "
@@ -427,7 +429,8 @@ def verdicts_table_text(verdicts: Iterable[Verdict]) -> str:
         A header line, a rule, one line per verdict and a closing line naming
         the intervals (no trailing newline). Columns: requirement, condition
         (metric, comparator, threshold), required probability, trials, trials
-        met, failed trials, estimated probability with its Clopper–Pearson
+        met, trials without a value ("no value": failed, or the event never
+        came), estimated probability with its Clopper–Pearson
         interval, the metric's quantile with its bootstrap interval (in the
         metric's unit), verdict. When the verdicts use different confidence
         levels each interval is followed by its level.
@@ -439,13 +442,13 @@ def verdicts_table_text(verdicts: Iterable[Verdict]) -> str:
     ...             verdict="undecided", quantile_level=0.9, quantile_value=1.4, quantile_low=1.3, quantile_high=1.6,
     ...             unit="m")
     >>> print(verdicts_table_text([v]))
-    requirement  condition        P req   n  met  failed  P met  interval        quantile                verdict
-    -----------  ---------------  -----  --  ---  ------  -----  --------------  ----------------------  ---------
-    xte          xte_p95_m < 2 m   0.90  40   38       1  0.950  [0.831, 0.994]  q0.90 = 1.4 [1.3, 1.6]  UNDECIDED
+    requirement  condition        P req   n  met  no value  P met  interval        quantile                verdict
+    -----------  ---------------  -----  --  ---  --------  -----  --------------  ----------------------  ---------
+    xte          xte_p95_m < 2 m   0.90  40   38         1  0.950  [0.831, 0.994]  q0.90 = 1.4 [1.3, 1.6]  UNDECIDED
     intervals: 95% two-sided (Clopper-Pearson for P met, percentile bootstrap for the quantile)
     """
     verdicts = list(verdicts)
-    header = ("requirement", "condition", "P req", "n", "met", "failed", "P met", "interval", "quantile", "verdict")
+    header = ("requirement", "condition", "P req", "n", "met", "no value", "P met", "interval", "quantile", "verdict")
     right = {2, 3, 4, 5, 6}
     levels = sorted({v.confidence for v in verdicts})
     mixed = len(levels) > 1
