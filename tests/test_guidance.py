@@ -75,6 +75,25 @@ def test_waypoint_switching_at_acceptance_radius():
     assert done.tolist() == [True, True]
 
 
+def test_switching_on_passing_a_missed_waypoint():
+    # A craft that misses the circle of acceptance (passes waypoint 1 at 12 m abeam, R = 5 m):
+    # with circle-only switching it keeps the first leg; with on_pass it switches once it is past
+    # the line through the waypoint square to the leg (hand geometry: leg north, waypoint at 100 m).
+    wps = np.array([[0.0, 0.0], [100.0, 0.0], [100.0, 100.0]])
+    path = make_path(wps, n_trials=2)
+    circle = LosParams(lookahead_m=10.0, acceptance_radius_m=5.0)
+    passing = LosParams(lookahead_m=10.0, acceptance_radius_m=5.0, switch_on_pass=True)
+    north, east = np.array([99.9, 100.1]), np.array([-12.0, -12.0])
+    st, *_ = los_step(circle, path, los_init(path), north, east, 0.1)
+    assert st.leg.tolist() == [0, 0]
+    st, *_ = los_step(passing, path, los_init(path), north, east, 0.1)
+    assert st.leg.tolist() == [0, 1]
+    # passing the last waypoint completes the mission
+    path2 = make_path(wps[:2], n_trials=1)
+    st, _, _, done = los_step(passing, path2, los_init(path2), np.array([100.5]), np.array([30.0]), 0.1)
+    assert done.tolist() == [True]
+
+
 # ---------------------------------------------------------------- LOS / ILOS kinematics
 
 

@@ -16,6 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from wavebench.core.errors import ParameterError
 from wavebench.core.frames import wrap_pi
 from wavebench.core.params import Params, bounded
 
@@ -41,11 +42,19 @@ class LosParams(Params):
         ILOS integral gain sigma, m/s (>= 0); 0 gives plain LOS.
     acceptance_radius_m : float or ndarray of shape (n_trials,)
         Circle-of-acceptance radius R, m (> 0).
+    switch_on_pass : bool
+        Also switch legs once the craft has passed the end waypoint (see
+        :func:`~wavebench.guidance.path.switch_legs`).
     """
 
     lookahead_m: float = bounded(20.0, gt=0.0, unit="m", doc="lookahead distance Delta")
     integral_gain: float = bounded(0.0, ge=0.0, unit="m/s", doc="ILOS integral gain sigma (0: plain LOS)")
     acceptance_radius_m: float = bounded(10.0, gt=0.0, unit="m", doc="circle-of-acceptance radius")
+    switch_on_pass: bool = False
+
+    def _check(self) -> None:
+        if not isinstance(self.switch_on_pass, (bool, np.bool_)):
+            raise ParameterError("switch_on_pass", self.switch_on_pass, "must be true or false")
 
 
 @dataclass(frozen=True)
@@ -128,7 +137,8 @@ def los_step(
     """
     north = np.asarray(north, dtype=float)
     east = np.asarray(east, dtype=float)
-    leg, done, switched = switch_legs(path, state.leg, state.done, north, east, params.acceptance_radius_m)
+    leg, done, switched = switch_legs(path, state.leg, state.done, north, east, params.acceptance_radius_m,
+                                      on_pass=bool(params.switch_on_pass))  # fmt: skip
     e_int = np.where(switched, 0.0, np.asarray(state.e_int, dtype=float))
     _, e = along_track_and_cross_track(path, leg, north, east)
     pi_p = path_tangential_angle(path, leg)

@@ -196,8 +196,10 @@ def switch_legs(
     north: np.ndarray,
     east: np.ndarray,
     radius_m: float | np.ndarray,
+    *,
+    on_pass: bool = False,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Circle-of-acceptance waypoint switching.
+    """Circle-of-acceptance waypoint switching, optionally also on passing the waypoint.
 
     When the craft is within ``radius_m`` of the active leg's end waypoint,
     the next leg becomes active; if that waypoint is the path's last one the
@@ -215,6 +217,12 @@ def switch_legs(
         Craft position, m.
     radius_m : float or ndarray of shape (n_trials,)
         Radius of the circle of acceptance, m.
+    on_pass : bool, optional
+        Also switch once the craft has passed the end waypoint, i.e. its
+        along-track distance reaches the leg's length (it crossed the line
+        through the waypoint square to the leg). This catches a craft that
+        misses the circle (set off by current or sea, or turning wide), which
+        would otherwise follow the leg's extension for ever.
 
     Returns
     -------
@@ -228,13 +236,21 @@ def switch_legs(
     Notes
     -----
     Switch when ``(x_{k+1} - x)^2 + (y_{k+1} - y)^2 <= R^2`` (Fossen 2021,
-    path-following chapter, circle of acceptance).
+    path-following chapter, circle of acceptance); with ``on_pass`` also when
+    ``(p - p_{k+1}) . (p_{k+1} - p_k) >= 0`` (the craft is past the end
+    waypoint along the leg; a common companion rule, no source).
     """
     leg = np.asarray(leg, dtype=np.int64)
     done = np.asarray(done, dtype=bool)
-    _, end = leg_endpoints(path, leg)
+    start, end = leg_endpoints(path, leg)
     d2 = (end[:, 0] - np.asarray(north, dtype=float)) ** 2 + (end[:, 1] - np.asarray(east, dtype=float)) ** 2
-    accepted = (d2 <= np.asarray(radius_m, dtype=float) ** 2) & ~done
+    accepted = d2 <= np.asarray(radius_m, dtype=float) ** 2
+    if on_pass:
+        dn, de = end[:, 0] - start[:, 0], end[:, 1] - start[:, 1]
+        # along-track distance past the end waypoint: (p - end) . (end - start) >= 0
+        passed = (np.asarray(north, dtype=float) - end[:, 0]) * dn + (np.asarray(east, dtype=float) - end[:, 1]) * de
+        accepted = accepted | (passed >= 0.0)
+    accepted = accepted & ~done
     at_last = leg >= path.last_leg
     switched = accepted & ~at_last
     new_leg = np.where(switched, leg + 1, leg)

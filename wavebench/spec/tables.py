@@ -198,12 +198,17 @@ class GuideSpec(SpecTable):
     Absent values are derived from the craft when the trial is built:
     ``lookahead_m`` 2.5 hull lengths, ``acceptance_radius_m`` 2 hull lengths
     (common practice, no source), ``integral_gain`` (ILOS only) 0.3 m/s.
+    ``switching = "circle"`` switches legs inside the circle of acceptance
+    only; ``"circle_or_passed"`` (default) also once the craft has passed the
+    waypoint, so a craft that misses the circle does not follow the leg's
+    extension for ever.
     """
 
     kind: str = text("los", choices=("los", "ilos"), doc="guidance law")
     lookahead_m: Any = number(None, bounds=_POS, unit="m", doc="lookahead distance", dist=True)
     acceptance_radius_m: float | None = number(None, bounds=_POS, unit="m", doc="circle of acceptance")
     integral_gain: Any = number(None, bounds=Bounds(ge=0.0), unit="m/s", doc="ILOS integral gain", dist=True)
+    switching: str = text("circle_or_passed", choices=("circle", "circle_or_passed"), doc="waypoint switching rule")
 
     def _check(self) -> None:
         if self.kind == "los" and self.integral_gain is not None and representative(self.integral_gain) != 0.0:

@@ -88,7 +88,8 @@ class CompiledStack:
         n = guide.path.n_trials
         p = guide.params
         los = np.stack([np.broadcast_to(np.asarray(v, dtype=float), (n,)) for v in
-                        (p.lookahead_m, p.integral_gain, p.acceptance_radius_m)], axis=1)  # fmt: skip
+                        (p.lookahead_m, p.integral_gain, p.acceptance_radius_m, float(p.switch_on_pass))],
+                       axis=1)  # fmt: skip
         h, s, ref = pilot.heading, pilot.speed, pilot.reference
         pil = np.array([
             h.kp, h.ki, h.kd, h.output_max, float(h.anti_windup),
@@ -208,8 +209,13 @@ def _tick(eta, nu, cur, wp, count, los, legs, pil, ap, layout, dt, leg, e_int, d
         # --- guide: circle of acceptance, then LOS / ILOS
         k = leg[i]
         delta, sigma, radius = los[i, 0], los[i, 1], los[i, 2]
-        d2 = (wp[i, k + 1, 0] - north) ** 2 + (wp[i, k + 1, 1] - east) ** 2
-        accepted = d2 <= radius * radius and not done[i]
+        xe, ye = wp[i, k + 1, 0], wp[i, k + 1, 1]
+        d2 = (xe - north) ** 2 + (ye - east) ** 2
+        accepted = d2 <= radius * radius
+        if los[i, 3] > 0.5:
+            passed = (north - xe) * (xe - wp[i, k, 0]) + (east - ye) * (ye - wp[i, k, 1])
+            accepted = accepted or passed >= 0.0
+        accepted = accepted and not done[i]
         at_last = k >= count[i] - 2
         switched = accepted and not at_last
         if switched:

@@ -247,6 +247,7 @@ def build_trial_setup(spec: Spec, env: TrialEnvironment, *, pilot: NomotoPidPilo
         lookahead_m=lookahead if lookahead is not None else 2.5 * hull_len,
         integral_gain=(sigma if sigma is not None else 0.3) if g.kind == "ilos" else 0.0,
         acceptance_radius_m=g.acceptance_radius_m or 2.0 * hull_len,
+        switch_on_pass=g.switching == "circle_or_passed",
     )
     guide = LosGuide(params=los, path=path, leg_speed_mps=legs)
     first_leg = math.atan2(wp[1, 1] - wp[0, 1], wp[1, 0] - wp[0, 0])
