@@ -123,8 +123,9 @@ class DriftWorkspace:
 
     Parameters
     ----------
-    weights : ndarray of shape (n_trials, 6, K_padded)
-        The weights, valid for ``heading_rad``.
+    weights : ndarray of shape (n_trials, 8, K_padded)
+        Rows 0-5: the weights, valid for ``heading_rad``; rows 6-7: scratch
+        for the component phasors (so a call allocates nothing per trial).
     heading_rad : ndarray of shape (n_trials,)
         Drift heading the weights were computed at (NaN: not yet computed).
     """
@@ -204,7 +205,7 @@ class Plant:
     def workspace(self) -> DriftWorkspace:
         """A fresh :class:`DriftWorkspace` for this plant (one per run; not shared between runs)."""
         k = self.packed_waves[0].shape[2]
-        return DriftWorkspace(weights=np.zeros((self.n_trials, 6, k)), heading_rad=np.full(self.n_trials, np.nan))
+        return DriftWorkspace(weights=np.zeros((self.n_trials, 8, k)), heading_rad=np.full(self.n_trials, np.nan))
 
     @functools.cached_property
     def packed_hull(self) -> NDArray[np.float64]:
@@ -309,9 +310,9 @@ def advance(
     pil = pilot.packed(n) if pilot is not None else np.zeros((n, 7))
     waves, roots = plant.packed_waves
     if workspace is None:
-        wbuf, wpsi, use_ws = np.zeros((1, 6, waves.shape[2])), np.zeros(1), False
+        wbuf, wpsi, use_ws = np.zeros((1, 8, waves.shape[2])), np.zeros(1), False
     else:
-        if workspace.weights.shape != (n, 6, waves.shape[2]):
+        if workspace.weights.shape != (n, 8, waves.shape[2]):
             raise ParameterError("workspace", workspace.weights.shape, "must come from this plant's workspace()")
         wbuf, wpsi, use_ws = workspace.weights, workspace.heading_rad, True
     _advance_kernel(
@@ -444,9 +445,14 @@ def _advance_kernel(eta, nu, psi_w, tau, cur, hull, waves, roots, pil, use_pilot
         ep = waves[i, 3]
         scale = waves[i, 4]
         beta = waves[i, 5]
-        w = wbuf[i] if use_ws else np.zeros((6, n_comp))
-        cb = np.empty(n_comp)
-        sb = np.empty(n_comp)
+        if use_ws:
+            w = wbuf[i, :6]
+            cb = wbuf[i, 6]
+            sb = wbuf[i, 7]
+        else:
+            w = np.zeros((6, n_comp))
+            cb = np.empty(n_comp)
+            sb = np.empty(n_comp)
         x, y, psi = eta[i, 0], eta[i, 1], eta[i, 2]
         u, v, r = nu[i, 0], nu[i, 1], nu[i, 2]
         vcn, vce = cur[i, 0], cur[i, 1]
