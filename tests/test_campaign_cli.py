@@ -270,4 +270,4 @@ def test_dulse_bay_survey_over_the_bay_runs_with_a_faster_speed_loop(tmp_path: P
     assert all(math.isfinite(d) for d in depth)
     assert all(d > 0.0 for d, g in zip(depth, m["grounded"], strict=True) if not g)
     verdicts = json.loads((out / "verdicts.json").read_text(encoding="utf-8"))
-    assert [v["name"] for v in verdicts] == ["track_keeping", "battery", "water_under_keel"]
+    assert [v["name"] for v in verdicts] == ["line_keeping", "battery", "water_under_keel"]

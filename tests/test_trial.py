@@ -189,3 +189,15 @@ def test_record_signals_choose_what_is_kept() -> None:
     assert sorted(ts.data_vars) == ["power_w", "xte_m"]
     with pytest.raises(ParameterError, match=r"record_signals\[0\] = 'xte' .*did you mean 'xte_m'"):
         dataclasses.replace(spec.campaign, record_signals=["xte"])
+
+
+def test_on_line_metrics_leave_out_the_turns_of_a_survey() -> None:
+    spec = short_spec("dulse_bay", trials=2, duration_s=400.0)
+    spec = dataclasses.replace(spec, sea=None, current=None, wind=None)  # calm water: only the turns set it off
+    m = run_campaign(spec, progress=False).metrics
+    assert (m["xte_max_m"] > 3.0).all()  # the turns between lines swing wide
+    assert (m["xte_line_max_m"] < 0.25 * m["xte_max_m"]).all()  # on the lines, past the run-in, it tracks
+    assert (m["xte_line_rms_m"] <= m["xte_rms_m"]).all()
+    bad = dataclasses.replace(spec.mission, line_run_in_m=1e9)  # no sample ever counts
+    m2 = run_campaign(dataclasses.replace(spec, mission=bad), progress=False).metrics
+    assert m2["xte_line_p95_m"].isna().all() and m2["xte_p95_m"].notna().all()

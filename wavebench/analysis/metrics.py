@@ -12,6 +12,10 @@ Definitions
 * Cross-track statistics over the control-period samples of ``|e|`` while
   the trial is active: RMS ``sqrt(mean(e^2))``, the 95th percentile
   (``numpy.nanpercentile``, linear interpolation) and the maximum.
+* On-line cross-track statistics (``xte_line_*``): the same over the
+  samples on a survey line (every leg of a waypoint mission; the lines, not
+  the connecting legs, of a survey pattern) once the craft is
+  ``line_run_in_m`` along it, so the turn onto a line does not count.
 * Heading error ``wrap(psi - psi_d)`` against the guide's desired heading,
   speed error ``u - u_d``: RMS over the same samples.
 * Distance: the sum of straight segments between consecutive positions.
@@ -48,6 +52,9 @@ class MetricAccumulator:
         self.n = n_trials
         self.period = control_period_s
         self.xte_abs = np.full((n_trials, n_ticks), np.nan)
+        self.line_abs = np.full((n_trials, n_ticks), np.nan)
+        self.line_count = np.zeros(n_trials)
+        self.line_sum2 = np.zeros(n_trials)
         self.count = np.zeros(n_trials)
         self.sum_xte2 = np.zeros(n_trials)
         self.sum_head2 = np.zeros(n_trials)
@@ -77,6 +84,12 @@ class MetricAccumulator:
         self.sum_head2 += np.where(a, he * he, 0.0)
         se = surge_mps - speed_d_mps
         self.sum_speed2 += np.where(a, se * se, 0.0)
+
+    def sample_line(self, tick: int, on_line: NDArray[np.bool_], xte_m: FloatArray) -> None:
+        """Add the cross-track samples of trials that are on a line (past the run-in of a survey line)."""
+        self.line_abs[on_line, tick] = np.abs(xte_m[on_line])
+        self.line_count += on_line
+        self.line_sum2 += np.where(on_line, xte_m * xte_m, 0.0)
 
     def motion(self, active: NDArray[np.bool_], step_m: FloatArray, power_w: FloatArray) -> None:
         """Add one control period's distance [m] and energy for the ``active`` trials."""
@@ -113,6 +126,14 @@ class MetricAccumulator:
                 rows = self.xte_abs[any_sample]
                 p95[any_sample] = np.nanpercentile(rows, 95.0, axis=1)
                 xmax[any_sample] = np.nanmax(rows, axis=1)
+        line_rms = np.where(self.line_count > 0, np.sqrt(self.line_sum2 / np.maximum(self.line_count, 1.0)), np.nan)
+        line_p95 = np.full(self.n, np.nan)
+        line_max = np.full(self.n, np.nan)
+        has_line = self.line_count > 0
+        if np.any(has_line):
+            rows = self.line_abs[has_line]
+            line_p95[has_line] = np.nanpercentile(rows, 95.0, axis=1)
+            line_max[has_line] = np.nanmax(rows, axis=1)
         completed = ~np.isnan(self.done_time) & ~self.failed
         ended = np.where(self.failed, "failed", np.where(completed, "completed", "truncated")).astype(object)
         dukc = np.full(self.n, np.nan)
@@ -125,6 +146,9 @@ class MetricAccumulator:
             "xte_rms_m": rms(self.sum_xte2),
             "xte_p95_m": p95,
             "xte_max_m": xmax,
+            "xte_line_rms_m": line_rms,
+            "xte_line_p95_m": line_p95,
+            "xte_line_max_m": line_max,
             "heading_err_rms_deg": np.degrees(rms(self.sum_head2)),
             "speed_err_rms_mps": rms(self.sum_speed2),
             "distance_m": self.distance.copy(),
@@ -134,7 +158,8 @@ class MetricAccumulator:
             "failed": self.failed.copy(),
             "failure_reason": self.reason.copy(),
         }
-        for name in ("xte_rms_m", "xte_p95_m", "xte_max_m", "heading_err_rms_deg", "speed_err_rms_mps",
+        for name in ("xte_rms_m", "xte_p95_m", "xte_max_m", "xte_line_rms_m", "xte_line_p95_m", "xte_line_max_m",
+                     "heading_err_rms_deg", "speed_err_rms_mps",
                      "distance_m", "energy_kj", "min_depth_under_keel_m"):  # fmt: skip
             out[name] = np.where(self.failed, np.nan, out[name])
         return out

@@ -141,7 +141,8 @@ class MissionSpec(SpecTable):
     ``start_heading_deg`` (default along the first leg) at the first leg's
     speed; all three may be distributions. A trial whose absolute
     cross-track error exceeds ``abort_cross_track_m`` is failed ("left the
-    corridor").
+    corridor"). The on-line cross-track metrics count a line once the craft
+    is ``line_run_in_m`` along it (default two lookahead distances).
     """
 
     kind: str = text(choices=("waypoints", "survey"), doc="mission kind")
@@ -155,6 +156,7 @@ class MissionSpec(SpecTable):
     start_east_m: Any = number(None, bounds=_ANY, unit="m", doc="start position east", dist=True)
     start_heading_deg: Any = number(None, bounds=_ANGLE, unit="deg", doc="start heading", dist=True)
     abort_cross_track_m: float | None = number(None, bounds=_POS, unit="m", doc="corridor half-width")
+    line_run_in_m: float | None = number(None, bounds=Bounds(ge=0.0), unit="m", doc="run-in before on-line metrics")
 
     def _check(self) -> None:
         if self.kind == "waypoints":

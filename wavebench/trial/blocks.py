@@ -28,7 +28,7 @@ from ..control.reference import ReferenceParams, ReferenceState, reference_init,
 from ..core.errors import ParameterError
 from ..core.frames import wrap_pi
 from ..guidance.los import LosParams, LosState, course_to_heading, los_init, los_step
-from ..guidance.path import WaypointPath
+from ..guidance.path import WaypointPath, along_track_and_cross_track
 from .signals import GuideOutput, NavState, PilotOutput
 
 __all__ = [
@@ -119,7 +119,10 @@ class LosGuide:
         state, chi_d, e, done = los_step(self.params, self.path, state, nav.north_m, nav.east_m, dt_s)
         psi_d = course_to_heading(chi_d, nav.surge_mps, nav.sway_mps)
         speed = np.take_along_axis(self.leg_speed_mps, state.leg[:, None], axis=1)[:, 0]
-        return state, GuideOutput(heading_d_rad=psi_d, speed_d_mps=speed, cross_track_m=e, leg=state.leg, done=done)
+        s, _ = along_track_and_cross_track(self.path, state.leg, nav.north_m, nav.east_m)
+        out = GuideOutput(heading_d_rad=psi_d, speed_d_mps=speed, cross_track_m=e, along_track_m=s, leg=state.leg,
+                          done=done)  # fmt: skip
+        return state, out
 
 
 # ---------------------------------------------------------------------------
@@ -223,7 +226,7 @@ class PerTrialGuide:
         ``step(nav: dict, dt_s: float) -> dict`` where ``nav`` holds one
         trial's :class:`NavState` values as floats and the result holds
         ``heading_d_rad``, ``speed_d_mps``, ``cross_track_m``, ``leg`` and
-        ``done``.
+        ``done`` (and optionally ``along_track_m``, for the on-line metrics).
     trials : sequence of int
         Global indices of the batch's trials (passed to ``factory``, so a
         user block can seed itself per trial).
@@ -245,6 +248,7 @@ class PerTrialGuide:
                 heading_d_rad=np.array([r["heading_d_rad"] for r in rows], dtype=float),
                 speed_d_mps=np.array([r["speed_d_mps"] for r in rows], dtype=float),
                 cross_track_m=np.array([r["cross_track_m"] for r in rows], dtype=float),
+                along_track_m=np.array([r.get("along_track_m", np.nan) for r in rows], dtype=float),
                 leg=np.array([r["leg"] for r in rows], dtype=np.int64),
                 done=np.array([r["done"] for r in rows], dtype=bool),
             )

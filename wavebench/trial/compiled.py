@@ -41,7 +41,8 @@ OUT_HEADING_D, OUT_SPEED_D, OUT_XTE, OUT_DONE, OUT_LEG = 0, 1, 2, 3, 4
 OUT_TAU = 5  # 5, 6, 7
 OUT_POWER = 8
 OUT_SURGE_CMD, OUT_RUDDER_CMD = 9, 10
-N_OUT = 11
+OUT_ALONG = 11
+N_OUT = 12
 
 
 @dataclass
@@ -228,6 +229,7 @@ def _tick(eta, nu, cur, wp, count, los, legs, pil, ap, layout, dt, leg, e_int, d
         pi_p = np.arctan2(wp[i, k + 1, 1] - y0, wp[i, k + 1, 0] - x0)
         dx, dy = north - x0, east - y0
         e = -dx * np.sin(pi_p) + dy * np.cos(pi_p)
+        s_along = dx * np.cos(pi_p) + dy * np.sin(pi_p)
         eff = e + sigma * e_int[i]
         chi_d = _wrap(pi_p - np.arctan(eff / delta))
         if sigma > 0.0:
@@ -319,6 +321,7 @@ def _tick(eta, nu, cur, wp, count, los, legs, pil, ap, layout, dt, leg, e_int, d
         out[i, OUT_TAU], out[i, OUT_TAU + 1], out[i, OUT_TAU + 2] = tx, ty, tn
         out[i, OUT_POWER] = pw
         out[i, OUT_SURGE_CMD], out[i, OUT_RUDDER_CMD] = force, rudder
+        out[i, OUT_ALONG] = s_along
 
 
 def compiled_tick(stack: CompiledStack, state: TickState, eta: FloatArray, nu: FloatArray, current_ned: FloatArray,
@@ -338,11 +341,11 @@ def compiled_tick(stack: CompiledStack, state: TickState, eta: FloatArray, nu: F
 
     Returns
     -------
-    ndarray of shape (n_trials, 11)
+    ndarray of shape (n_trials, 12)
         Columns: desired heading [rad], desired speed [m/s], cross-track
         error [m], done (0/1), active leg, mean actuator force X, Y, N over
         the period, shaft power [W] at the period's mean actuator state,
-        surge-force demand [N] and rudder demand [rad].
+        surge-force demand [N], rudder demand [rad], along-track distance [m].
     """
     n = eta.shape[0]
     out = np.empty((n, N_OUT))

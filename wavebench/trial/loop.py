@@ -42,6 +42,7 @@ from ..sea.wind import relative_wind, wind_loads
 from ..spec.schema import Spec
 from .blocks import BatchGuide, BatchPilot
 from .compiled import (
+    OUT_ALONG,
     OUT_DONE,
     OUT_HEADING_D,
     OUT_LEG,
@@ -162,6 +163,7 @@ def run_batch(
     cur_model = env.current
     steps_run = 0
     zero_cur = np.zeros((n, 2))
+    rows = np.arange(n)
     # the wind speed on the control grid, once (the gust sum is the costliest environment term)
     wind_tab = wind_speed_table(env.wind.state, 0.0, period, n_ticks) if setup.windage is not None else None
     report_every = max(n_ticks // 100, 1)
@@ -173,7 +175,8 @@ def run_batch(
         if compiled:
             out = compiled_tick(stack, tstate, eta, nu, zero_cur if cur is None else cur, period)
             gout = GuideOutput(heading_d_rad=out[:, OUT_HEADING_D], speed_d_mps=out[:, OUT_SPEED_D],
-                               cross_track_m=out[:, OUT_XTE], leg=out[:, OUT_LEG].astype(np.int64),
+                               cross_track_m=out[:, OUT_XTE], along_track_m=out[:, OUT_ALONG],
+                               leg=out[:, OUT_LEG].astype(np.int64),
                                done=out[:, OUT_DONE] > 0.5)  # fmt: skip
             tau = out[:, OUT_TAU : OUT_TAU + 3].copy()
             power = out[:, OUT_POWER].copy()
@@ -199,6 +202,9 @@ def run_batch(
             acc.fail(dukc < 0.0, f"grounded at t = {t:.1f} s", grounded=True)
         active = acc.active
         acc.sample(tick, active, gout.cross_track_m, eta[:, 2], gout.heading_d_rad, nu[:, 0], gout.speed_d_mps)
+        leg = np.clip(gout.leg, 0, setup.line_legs.shape[1] - 1)
+        on_line = active & setup.line_legs[rows, leg] & (gout.along_track_m >= setup.line_run_in_m)
+        acc.sample_line(tick, on_line, gout.cross_track_m)
         if wind_tab is not None:
             v_rw, gamma = relative_wind(
                 nu[:, 0], nu[:, 1], eta[:, 2], wind_tab[:, tick], env.wind.state.direction_from_rad

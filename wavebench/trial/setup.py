@@ -23,6 +23,9 @@ Derived defaults (each our choice unless a source is named):
   linearised at the nominal speed, ``w_n = max(0.3 rad/s, d / (zeta m11))``
   (so that ``kp >= d > 0``), limited to the
   full-ahead surge force; plus the steady-thrust feed-forward.
+* On-line metrics: a line counts from two lookahead distances along it
+  (the LOS law has then taken out most of an initial offset; common
+  practice, no source).
 * Windage (when the spec has wind): an above-water profile of height
   ``0.4 B`` over the hull's length and beam (an assumed demo value, no
   source), Fossen's coefficient curves.
@@ -84,6 +87,11 @@ class TrialSetup:
     windage : WindageParams or None
         None without wind.
     abort_cross_track_m : float or None
+    line_legs : ndarray of bool, shape (n_trials, n_legs)
+        Legs that are lines for the on-line metrics (every leg of a waypoint
+        mission; the even legs, not the connectors, of a survey pattern).
+    line_run_in_m : ndarray of shape (n_trials,)
+        Distance along a line before its samples count [m].
     """
 
     env: TrialEnvironment
@@ -96,6 +104,8 @@ class TrialSetup:
     seabed: SeabedGrid | None
     windage: WindageParams | None
     abort_cross_track_m: float | None
+    line_legs: NDArray[np.bool_]
+    line_run_in_m: FloatArray
 
     @property
     def n_trials(self) -> int:
@@ -272,6 +282,11 @@ def build_trial_setup(spec: Spec, env: TrialEnvironment, *, pilot: NomotoPidPilo
         env=env, guide=guide, pilot=pilot or pilot_for(spec, craft), actuation=actuation, eta0=eta0, nu0=nu0,
         act0=actuation.initial_state(nu0[:, 0]), seabed=build_seabed(spec), windage=windage,
         abort_cross_track_m=m.abort_cross_track_m,
+        line_legs=np.broadcast_to(np.arange(n_legs) % 2 == 0 if m.kind == "survey" else np.ones(n_legs, dtype=bool),
+                                  (n, n_legs)),
+        line_run_in_m=np.broadcast_to(
+            m.line_run_in_m if m.line_run_in_m is not None else 2.0 * np.asarray(los.lookahead_m, dtype=float), (n,)
+        ),
     )  # fmt: skip
 
 

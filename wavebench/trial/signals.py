@@ -68,6 +68,9 @@ class GuideOutput:
         Desired surge speed over ground [m/s].
     cross_track_m : ndarray
         Cross-track error to the active leg [m], + to starboard.
+    along_track_m : ndarray
+        Distance along the active leg from its first waypoint [m] (NaN if
+        the guide does not say).
     leg : ndarray of int
         Active leg index.
     done : ndarray of bool
@@ -77,6 +80,7 @@ class GuideOutput:
     heading_d_rad: FloatArray
     speed_d_mps: FloatArray
     cross_track_m: FloatArray
+    along_track_m: FloatArray
     leg: NDArray[np.int64]
     done: NDArray[np.bool_]
 
