@@ -432,19 +432,77 @@ def _weights(w: np.ndarray, beta: np.ndarray, scale: np.ndarray, roots: np.ndarr
             w[d, j] = scale[j] * (roots[k, d] * (1.0 - f) + roots[k + 1, d] * f)
 
 
+@numba.njit(inline="always", cache=True, fastmath={"reassoc", "contract"})
+def advance_one(x, y, psi, u, v, r, pw, h, om, kc, ks, ep, scale, beta, w, cb, sb, roots, tx0, ty0, tn0, vcn, vce,
+                pil_row, use_pilot, step0, dt, n_steps, tol, midpoint):  # fmt: skip
+    """One trial's ``n_steps`` RK4 steps: the body of :func:`advance`'s kernel, shared with the fused run.
+
+    ``w`` must hold the Newman weights at the drift heading ``pw`` (rows
+    0-5), ``cb``, ``sb`` are scratch of length K. Returns the new
+    ``x, y, psi, u, v, r, pw`` (``w`` is refreshed in place).
+    """
+    n_comp = om.shape[0]
+    pil = pil_row
+    for step in range(n_steps):
+        t = (step0 + step) * dt
+        tx, ty, tn = tx0, ty0, tn0
+        if use_pilot:
+            err = _wrap(psi - pil[1])
+            xp = min(max(pil[2] * (pil[0] - u), -pil[5]), pil[5])
+            npl = min(max(-pil[3] * err - pil[4] * r, -pil[6]), pil[6])
+            tx += xp
+            tn += npl
+        if n_comp > 0 and abs(_wrap(psi - pw)) > tol:
+            pw = psi
+            _weights(w, beta, scale, roots, pw)
+        # drift load: once per step at the predicted midpoint, or in every stage
+        fxm = fym = fnm = 0.0
+        if n_comp > 0 and midpoint:
+            cp = np.cos(psi)
+            sp = np.sin(psi)
+            xm = x + 0.5 * dt * (cp * u - sp * v)
+            ym = y + 0.5 * dt * (sp * u + cp * v)
+            fxm, fym, fnm = _drift_eval(xm, ym, t + 0.5 * dt, om, kc, ks, ep, w, cb, sb)
+        stages = n_comp > 0 and not midpoint
+        fx1, fy1, fn1 = fxm, fym, fnm
+        if stages:
+            fx1, fy1, fn1 = _drift_eval(x, y, t, om, kc, ks, ep, w, cb, sb)
+        k1 = _hull_rhs(h, psi, u, v, r, tx + fx1, ty + fy1, tn + fn1, vcn, vce)
+        fx2, fy2, fn2 = fxm, fym, fnm
+        if stages:
+            fx2, fy2, fn2 = _drift_eval(x + 0.5 * dt * k1[0], y + 0.5 * dt * k1[1], t + 0.5 * dt,
+                                        om, kc, ks, ep, w, cb, sb)  # fmt: skip
+        k2 = _hull_rhs(h, psi + 0.5 * dt * k1[2], u + 0.5 * dt * k1[3], v + 0.5 * dt * k1[4],
+                       r + 0.5 * dt * k1[5], tx + fx2, ty + fy2, tn + fn2, vcn, vce)  # fmt: skip
+        fx3, fy3, fn3 = fxm, fym, fnm
+        if stages:
+            fx3, fy3, fn3 = _drift_eval(x + 0.5 * dt * k2[0], y + 0.5 * dt * k2[1], t + 0.5 * dt,
+                                        om, kc, ks, ep, w, cb, sb)  # fmt: skip
+        k3 = _hull_rhs(h, psi + 0.5 * dt * k2[2], u + 0.5 * dt * k2[3], v + 0.5 * dt * k2[4],
+                       r + 0.5 * dt * k2[5], tx + fx3, ty + fy3, tn + fn3, vcn, vce)  # fmt: skip
+        fx4, fy4, fn4 = fxm, fym, fnm
+        if stages:
+            fx4, fy4, fn4 = _drift_eval(x + dt * k3[0], y + dt * k3[1], t + dt, om, kc, ks, ep, w, cb, sb)
+        k4 = _hull_rhs(h, psi + dt * k3[2], u + dt * k3[3], v + dt * k3[4],
+                       r + dt * k3[5], tx + fx4, ty + fy4, tn + fn4, vcn, vce)  # fmt: skip
+        c6 = dt / 6.0
+        x += c6 * (k1[0] + 2.0 * k2[0] + 2.0 * k3[0] + k4[0])
+        y += c6 * (k1[1] + 2.0 * k2[1] + 2.0 * k3[1] + k4[1])
+        psi += c6 * (k1[2] + 2.0 * k2[2] + 2.0 * k3[2] + k4[2])
+        u += c6 * (k1[3] + 2.0 * k2[3] + 2.0 * k3[3] + k4[3])
+        v += c6 * (k1[4] + 2.0 * k2[4] + 2.0 * k3[4] + k4[4])
+        r += c6 * (k1[5] + 2.0 * k2[5] + 2.0 * k3[5] + k4[5])
+    return x, y, psi, u, v, r, pw
+
+
 @numba.njit(parallel=True, cache=True, fastmath={"reassoc", "contract"})
 def _advance_kernel(eta, nu, psi_w, tau, cur, hull, waves, roots, pil, use_pilot, step0, dt, n_steps, tol, midpoint,
                     wbuf, wpsi, use_ws):  # fmt: skip
     n = eta.shape[0]
     n_comp = waves.shape[2]
     for i in numba.prange(n):
-        h = hull[i]
-        om = waves[i, 0]
-        kc = waves[i, 1]
-        ks = waves[i, 2]
-        ep = waves[i, 3]
-        scale = waves[i, 4]
         beta = waves[i, 5]
+        scale = waves[i, 4]
         if use_ws:
             w = wbuf[i, :6]
             cb = wbuf[i, 6]
@@ -453,61 +511,14 @@ def _advance_kernel(eta, nu, psi_w, tau, cur, hull, waves, roots, pil, use_pilot
             w = np.zeros((6, n_comp))
             cb = np.empty(n_comp)
             sb = np.empty(n_comp)
-        x, y, psi = eta[i, 0], eta[i, 1], eta[i, 2]
-        u, v, r = nu[i, 0], nu[i, 1], nu[i, 2]
-        vcn, vce = cur[i, 0], cur[i, 1]
         pw = psi_w[i]
         if n_comp > 0 and not (use_ws and wpsi[i] == pw):
             _weights(w, beta, scale, roots, pw)
-        for step in range(n_steps):
-            t = (step0 + step) * dt
-            tx, ty, tn = tau[i, 0], tau[i, 1], tau[i, 2]
-            if use_pilot:
-                err = _wrap(psi - pil[i, 1])
-                xp = min(max(pil[i, 2] * (pil[i, 0] - u), -pil[i, 5]), pil[i, 5])
-                npl = min(max(-pil[i, 3] * err - pil[i, 4] * r, -pil[i, 6]), pil[i, 6])
-                tx += xp
-                tn += npl
-            if n_comp > 0 and abs(_wrap(psi - pw)) > tol:
-                pw = psi
-                _weights(w, beta, scale, roots, pw)
-            # drift load: once per step at the predicted midpoint, or in every stage
-            fxm = fym = fnm = 0.0
-            if n_comp > 0 and midpoint:
-                cp = np.cos(psi)
-                sp = np.sin(psi)
-                xm = x + 0.5 * dt * (cp * u - sp * v)
-                ym = y + 0.5 * dt * (sp * u + cp * v)
-                fxm, fym, fnm = _drift_eval(xm, ym, t + 0.5 * dt, om, kc, ks, ep, w, cb, sb)
-            stages = n_comp > 0 and not midpoint
-            fx1, fy1, fn1 = fxm, fym, fnm
-            if stages:
-                fx1, fy1, fn1 = _drift_eval(x, y, t, om, kc, ks, ep, w, cb, sb)
-            k1 = _hull_rhs(h, psi, u, v, r, tx + fx1, ty + fy1, tn + fn1, vcn, vce)
-            fx2, fy2, fn2 = fxm, fym, fnm
-            if stages:
-                fx2, fy2, fn2 = _drift_eval(x + 0.5 * dt * k1[0], y + 0.5 * dt * k1[1], t + 0.5 * dt,
-                                            om, kc, ks, ep, w, cb, sb)  # fmt: skip
-            k2 = _hull_rhs(h, psi + 0.5 * dt * k1[2], u + 0.5 * dt * k1[3], v + 0.5 * dt * k1[4],
-                           r + 0.5 * dt * k1[5], tx + fx2, ty + fy2, tn + fn2, vcn, vce)  # fmt: skip
-            fx3, fy3, fn3 = fxm, fym, fnm
-            if stages:
-                fx3, fy3, fn3 = _drift_eval(x + 0.5 * dt * k2[0], y + 0.5 * dt * k2[1], t + 0.5 * dt,
-                                            om, kc, ks, ep, w, cb, sb)  # fmt: skip
-            k3 = _hull_rhs(h, psi + 0.5 * dt * k2[2], u + 0.5 * dt * k2[3], v + 0.5 * dt * k2[4],
-                           r + 0.5 * dt * k2[5], tx + fx3, ty + fy3, tn + fn3, vcn, vce)  # fmt: skip
-            fx4, fy4, fn4 = fxm, fym, fnm
-            if stages:
-                fx4, fy4, fn4 = _drift_eval(x + dt * k3[0], y + dt * k3[1], t + dt, om, kc, ks, ep, w, cb, sb)
-            k4 = _hull_rhs(h, psi + dt * k3[2], u + dt * k3[3], v + dt * k3[4],
-                           r + dt * k3[5], tx + fx4, ty + fy4, tn + fn4, vcn, vce)  # fmt: skip
-            c6 = dt / 6.0
-            x += c6 * (k1[0] + 2.0 * k2[0] + 2.0 * k3[0] + k4[0])
-            y += c6 * (k1[1] + 2.0 * k2[1] + 2.0 * k3[1] + k4[1])
-            psi += c6 * (k1[2] + 2.0 * k2[2] + 2.0 * k3[2] + k4[2])
-            u += c6 * (k1[3] + 2.0 * k2[3] + 2.0 * k3[3] + k4[3])
-            v += c6 * (k1[4] + 2.0 * k2[4] + 2.0 * k3[4] + k4[4])
-            r += c6 * (k1[5] + 2.0 * k2[5] + 2.0 * k3[5] + k4[5])
+        x, y, psi, u, v, r, pw = advance_one(
+            eta[i, 0], eta[i, 1], eta[i, 2], nu[i, 0], nu[i, 1], nu[i, 2], pw, hull[i], waves[i, 0], waves[i, 1],
+            waves[i, 2], waves[i, 3], scale, beta, w, cb, sb, roots, tau[i, 0], tau[i, 1], tau[i, 2], cur[i, 0],
+            cur[i, 1], pil[i], use_pilot, step0, dt, n_steps, tol, midpoint,
+        )  # fmt: skip
         eta[i, 0], eta[i, 1], eta[i, 2] = x, y, psi
         nu[i, 0], nu[i, 1], nu[i, 2] = u, v, r
         psi_w[i] = pw
