@@ -201,127 +201,133 @@ def _disc_power(t, v_a, area, rho):
     return t_abs * (va + v_i) / POWER_EFFICIENCY
 
 
+@numba.njit(cache=True, error_model="numpy")
+def control_one(i, north, east, psi, u, v, r, cn, ce, wp, count, los, legs, pil, ap, layout, dt, leg, e_int, done, pid,
+                ref, act, out):  # fmt: skip
+    """One trial's control period (row ``i`` of the state arrays and of ``out``); see :func:`compiled_tick`."""
+    # --- guide: circle of acceptance, then LOS / ILOS
+    k = leg[i]
+    delta, sigma, radius = los[i, 0], los[i, 1], los[i, 2]
+    xe, ye = wp[i, k + 1, 0], wp[i, k + 1, 1]
+    d2 = (xe - north) ** 2 + (ye - east) ** 2
+    accepted = d2 <= radius * radius
+    if los[i, 3] > 0.5:
+        passed = (north - xe) * (xe - wp[i, k, 0]) + (east - ye) * (ye - wp[i, k, 1])
+        accepted = accepted or passed >= 0.0
+    accepted = accepted and not done[i]
+    at_last = k >= count[i] - 2
+    switched = accepted and not at_last
+    if switched:
+        k += 1
+        e_int[i] = 0.0
+    if accepted and at_last:
+        done[i] = True
+    leg[i] = k
+    x0, y0 = wp[i, k, 0], wp[i, k, 1]
+    pi_p = np.arctan2(wp[i, k + 1, 1] - y0, wp[i, k + 1, 0] - x0)
+    dx, dy = north - x0, east - y0
+    e = -dx * np.sin(pi_p) + dy * np.cos(pi_p)
+    s_along = dx * np.cos(pi_p) + dy * np.sin(pi_p)
+    eff = e + sigma * e_int[i]
+    chi_d = _wrap(pi_p - np.arctan(eff / delta))
+    if sigma > 0.0:
+        e_int[i] += dt * (delta * e / (eff * eff + delta * delta))
+    psi_g = _wrap(chi_d - np.arctan2(v, u))
+    u_d = legs[i, k]
+    # --- pilot: reference model, heading PID, speed PI
+    if pil[12] > 0.5:
+        wn, zeta, rmax, amax = pil[13], pil[14], pil[15], pil[16]
+        xf, pd, rd = ref[i, 0], ref[i, 1], ref[i, 2]
+        target = xf + _wrap(psi_g - xf)
+        a1, b1, c1 = _ref_deriv(wn, zeta, rmax, amax, xf, pd, rd, target)
+        a2, b2, c2 = _ref_deriv(wn, zeta, rmax, amax, xf + 0.5 * dt * a1, pd + 0.5 * dt * b1, rd + 0.5 * dt * c1,
+                                target)  # fmt: skip
+        a3, b3, c3 = _ref_deriv(wn, zeta, rmax, amax, xf + 0.5 * dt * a2, pd + 0.5 * dt * b2, rd + 0.5 * dt * c2,
+                                target)  # fmt: skip
+        a4, b4, c4 = _ref_deriv(wn, zeta, rmax, amax, xf + dt * a3, pd + dt * b3, rd + dt * c3, target)
+        xf = xf + dt / 6.0 * (a1 + 2.0 * a2 + 2.0 * a3 + a4)
+        pd = pd + dt / 6.0 * (b1 + 2.0 * b2 + 2.0 * b3 + b4)
+        rd = _clip(rd + dt / 6.0 * (c1 + 2.0 * c2 + 2.0 * c3 + c4), -rmax, rmax)
+        ref[i, 0], ref[i, 1], ref[i, 2] = xf, pd, rd
+        ad = _ref_deriv(wn, zeta, rmax, amax, xf, pd, rd, target)[2]
+        psi_d = pd
+    else:
+        psi_d, rd, ad = psi_g, 0.0, 0.0
+    eh = _wrap(psi - psi_d)
+    ff = (pil[11] * ad + rd) / pil[10]
+    pid[i, 0], rudder = _pid(pil[0], pil[1], pil[2], pil[3], pil[4], pid[i, 0], eh, r - rd, dt, ff)
+    x_ff = -(pil[17] * u_d + pil[18] * abs(u_d) * u_d)
+    pid[i, 1], force = _pid(pil[5], pil[6], pil[7], pil[8], pil[9], pid[i, 1], u - u_d, 0.0, dt, x_ff)
+    # --- actuators: command, dynamics, mean force, power
+    cpsi, spsi = np.cos(psi), np.sin(psi)
+    u_r = u - (cpsi * cn + spsi * ce)
+    a0, a1_ = act[i, 0], act[i, 1]
+    if layout == 0:
+        yp, kfp, krp, nmp, rtp, tcp, arp = ap[0], ap[1], ap[2], ap[3], ap[4], ap[5], ap[6]
+        ys, kfs, krs, nms, rts, tcs, ars = ap[7], ap[8], ap[9], ap[10], ap[11], ap[12], ap[13]
+        rho, hard = ap[14], ap[15]
+        hi_p, lo_p = kfp * nmp * nmp, -krp * nmp * nmp
+        hi_s, lo_s = kfs * nms * nms, -krs * nms * nms
+        frac = _clip(rudder / hard, -1.0, 1.0)
+        n_hi = -yp * hi_p - ys * lo_s
+        n_lo = -yp * lo_p - ys * hi_s
+        yaw = frac * n_hi if frac >= 0.0 else -frac * n_lo
+        d = ys - yp
+        n_c = _clip(yaw, n_lo, n_hi)
+        fp0, fs0 = n_c / d, -n_c / d
+        wpw, wsw = ys / d, -yp / d
+        x_lo = max((lo_p - fp0) / wpw, (lo_s - fs0) / wsw)
+        x_hi = min((hi_p - fp0) / wpw, (hi_s - fs0) / wsw)
+        x_c = _clip(force, x_lo, max(x_lo, x_hi))
+        fp = _clip(fp0 + x_c * wpw, lo_p, hi_p)
+        fs = _clip(fs0 + x_c * wsw, lo_s, hi_s)
+        cmd0 = _clip(_rps(kfp, krp, fp), -nmp, nmp)
+        cmd1 = _clip(_rps(kfs, krs, fs), -nms, nms)
+        b0 = _thruster_step(nmp, rtp, tcp, a0, cmd0, dt)
+        b1 = _thruster_step(nms, rts, tcs, a1_, cmd1, dt)
+        m0, m1 = 0.5 * (a0 + b0), 0.5 * (a1_ + b1)
+        tp, ts = _thrust(kfp, krp, m0), _thrust(kfs, krs, m1)
+        tx, ty, tn = tp + ts, 0.0, -yp * tp - ys * ts
+        pw = _disc_power(tp, u_r if tp >= 0.0 else -u_r, arp, rho)
+        pw += _disc_power(ts, u_r if ts >= 0.0 else -u_r, ars, rho)
+    else:
+        kf, kr, nmax, rate, tc, yprop = ap[0], ap[1], ap[2], ap[3], ap[4], ap[5]
+        t_ded, w_frac, area, a_r, slope, eta_s, x_r = ap[6], ap[7], ap[8], ap[9], ap[10], ap[11], ap[12]
+        dmax, drate, rho = ap[13], ap[14], ap[15]
+        cmd0 = _clip(_rps(kf, kr, force / (1.0 - t_ded)), -nmax, nmax)
+        cmd1 = _clip(rudder, -dmax, dmax)
+        b0 = _thruster_step(nmax, rate, tc, a0, cmd0, dt)
+        step = drate * dt
+        b1 = _clip(a1_ + _clip(_clip(cmd1, -dmax, dmax) - a1_, -step, step), -dmax, dmax)
+        m0, m1 = 0.5 * (a0 + b0), 0.5 * (a1_ + b1)
+        t_prop = _thrust(kf, kr, m0)
+        x_p = (1.0 - t_ded) * t_prop
+        u_a = (1.0 - w_frac) * u_r
+        q = u_a * abs(u_a) + eta_s * 2.0 * max(t_prop, 0.0) / (rho * area)
+        sd, cd = np.sin(m1), np.cos(m1)
+        f_n = 0.5 * rho * a_r * slope * sd * q
+        tx, ty = x_p - f_n * sd, -f_n * cd
+        tn = -yprop * x_p + x_r * ty
+        va = (1.0 - w_frac) * (u_r if t_prop >= 0.0 else -u_r)
+        pw = _disc_power(t_prop, va, area, rho)
+    act[i, 0], act[i, 1] = b0, b1
+    out[i, OUT_HEADING_D] = psi_g
+    out[i, OUT_SPEED_D] = u_d
+    out[i, OUT_XTE] = e
+    out[i, OUT_DONE] = 1.0 if done[i] else 0.0
+    out[i, OUT_LEG] = k
+    out[i, OUT_TAU], out[i, OUT_TAU + 1], out[i, OUT_TAU + 2] = tx, ty, tn
+    out[i, OUT_POWER] = pw
+    out[i, OUT_SURGE_CMD], out[i, OUT_RUDDER_CMD] = force, rudder
+    out[i, OUT_ALONG] = s_along
+
+
 @numba.njit(parallel=True, cache=True, error_model="numpy")
 def _tick(eta, nu, cur, wp, count, los, legs, pil, ap, layout, dt, leg, e_int, done, pid, ref, act, out):
     n = eta.shape[0]
     for i in numba.prange(n):
-        north, east, psi = eta[i, 0], eta[i, 1], eta[i, 2]
-        u, v, r = nu[i, 0], nu[i, 1], nu[i, 2]
-        # --- guide: circle of acceptance, then LOS / ILOS
-        k = leg[i]
-        delta, sigma, radius = los[i, 0], los[i, 1], los[i, 2]
-        xe, ye = wp[i, k + 1, 0], wp[i, k + 1, 1]
-        d2 = (xe - north) ** 2 + (ye - east) ** 2
-        accepted = d2 <= radius * radius
-        if los[i, 3] > 0.5:
-            passed = (north - xe) * (xe - wp[i, k, 0]) + (east - ye) * (ye - wp[i, k, 1])
-            accepted = accepted or passed >= 0.0
-        accepted = accepted and not done[i]
-        at_last = k >= count[i] - 2
-        switched = accepted and not at_last
-        if switched:
-            k += 1
-            e_int[i] = 0.0
-        if accepted and at_last:
-            done[i] = True
-        leg[i] = k
-        x0, y0 = wp[i, k, 0], wp[i, k, 1]
-        pi_p = np.arctan2(wp[i, k + 1, 1] - y0, wp[i, k + 1, 0] - x0)
-        dx, dy = north - x0, east - y0
-        e = -dx * np.sin(pi_p) + dy * np.cos(pi_p)
-        s_along = dx * np.cos(pi_p) + dy * np.sin(pi_p)
-        eff = e + sigma * e_int[i]
-        chi_d = _wrap(pi_p - np.arctan(eff / delta))
-        if sigma > 0.0:
-            e_int[i] += dt * (delta * e / (eff * eff + delta * delta))
-        psi_g = _wrap(chi_d - np.arctan2(v, u))
-        u_d = legs[i, k]
-        # --- pilot: reference model, heading PID, speed PI
-        if pil[12] > 0.5:
-            wn, zeta, rmax, amax = pil[13], pil[14], pil[15], pil[16]
-            xf, pd, rd = ref[i, 0], ref[i, 1], ref[i, 2]
-            target = xf + _wrap(psi_g - xf)
-            a1, b1, c1 = _ref_deriv(wn, zeta, rmax, amax, xf, pd, rd, target)
-            a2, b2, c2 = _ref_deriv(wn, zeta, rmax, amax, xf + 0.5 * dt * a1, pd + 0.5 * dt * b1, rd + 0.5 * dt * c1,
-                                    target)  # fmt: skip
-            a3, b3, c3 = _ref_deriv(wn, zeta, rmax, amax, xf + 0.5 * dt * a2, pd + 0.5 * dt * b2, rd + 0.5 * dt * c2,
-                                    target)  # fmt: skip
-            a4, b4, c4 = _ref_deriv(wn, zeta, rmax, amax, xf + dt * a3, pd + dt * b3, rd + dt * c3, target)
-            xf = xf + dt / 6.0 * (a1 + 2.0 * a2 + 2.0 * a3 + a4)
-            pd = pd + dt / 6.0 * (b1 + 2.0 * b2 + 2.0 * b3 + b4)
-            rd = _clip(rd + dt / 6.0 * (c1 + 2.0 * c2 + 2.0 * c3 + c4), -rmax, rmax)
-            ref[i, 0], ref[i, 1], ref[i, 2] = xf, pd, rd
-            ad = _ref_deriv(wn, zeta, rmax, amax, xf, pd, rd, target)[2]
-            psi_d = pd
-        else:
-            psi_d, rd, ad = psi_g, 0.0, 0.0
-        eh = _wrap(psi - psi_d)
-        ff = (pil[11] * ad + rd) / pil[10]
-        pid[i, 0], rudder = _pid(pil[0], pil[1], pil[2], pil[3], pil[4], pid[i, 0], eh, r - rd, dt, ff)
-        x_ff = -(pil[17] * u_d + pil[18] * abs(u_d) * u_d)
-        pid[i, 1], force = _pid(pil[5], pil[6], pil[7], pil[8], pil[9], pid[i, 1], u - u_d, 0.0, dt, x_ff)
-        # --- actuators: command, dynamics, mean force, power
-        cpsi, spsi = np.cos(psi), np.sin(psi)
-        u_r = u - (cpsi * cur[i, 0] + spsi * cur[i, 1])
-        a0, a1_ = act[i, 0], act[i, 1]
-        if layout == 0:
-            yp, kfp, krp, nmp, rtp, tcp, arp = ap[0], ap[1], ap[2], ap[3], ap[4], ap[5], ap[6]
-            ys, kfs, krs, nms, rts, tcs, ars = ap[7], ap[8], ap[9], ap[10], ap[11], ap[12], ap[13]
-            rho, hard = ap[14], ap[15]
-            hi_p, lo_p = kfp * nmp * nmp, -krp * nmp * nmp
-            hi_s, lo_s = kfs * nms * nms, -krs * nms * nms
-            frac = _clip(rudder / hard, -1.0, 1.0)
-            n_hi = -yp * hi_p - ys * lo_s
-            n_lo = -yp * lo_p - ys * hi_s
-            yaw = frac * n_hi if frac >= 0.0 else -frac * n_lo
-            d = ys - yp
-            n_c = _clip(yaw, n_lo, n_hi)
-            fp0, fs0 = n_c / d, -n_c / d
-            wpw, wsw = ys / d, -yp / d
-            x_lo = max((lo_p - fp0) / wpw, (lo_s - fs0) / wsw)
-            x_hi = min((hi_p - fp0) / wpw, (hi_s - fs0) / wsw)
-            x_c = _clip(force, x_lo, max(x_lo, x_hi))
-            fp = _clip(fp0 + x_c * wpw, lo_p, hi_p)
-            fs = _clip(fs0 + x_c * wsw, lo_s, hi_s)
-            cmd0 = _clip(_rps(kfp, krp, fp), -nmp, nmp)
-            cmd1 = _clip(_rps(kfs, krs, fs), -nms, nms)
-            b0 = _thruster_step(nmp, rtp, tcp, a0, cmd0, dt)
-            b1 = _thruster_step(nms, rts, tcs, a1_, cmd1, dt)
-            m0, m1 = 0.5 * (a0 + b0), 0.5 * (a1_ + b1)
-            tp, ts = _thrust(kfp, krp, m0), _thrust(kfs, krs, m1)
-            tx, ty, tn = tp + ts, 0.0, -yp * tp - ys * ts
-            pw = _disc_power(tp, u_r if tp >= 0.0 else -u_r, arp, rho)
-            pw += _disc_power(ts, u_r if ts >= 0.0 else -u_r, ars, rho)
-        else:
-            kf, kr, nmax, rate, tc, yprop = ap[0], ap[1], ap[2], ap[3], ap[4], ap[5]
-            t_ded, w_frac, area, a_r, slope, eta_s, x_r = ap[6], ap[7], ap[8], ap[9], ap[10], ap[11], ap[12]
-            dmax, drate, rho = ap[13], ap[14], ap[15]
-            cmd0 = _clip(_rps(kf, kr, force / (1.0 - t_ded)), -nmax, nmax)
-            cmd1 = _clip(rudder, -dmax, dmax)
-            b0 = _thruster_step(nmax, rate, tc, a0, cmd0, dt)
-            step = drate * dt
-            b1 = _clip(a1_ + _clip(_clip(cmd1, -dmax, dmax) - a1_, -step, step), -dmax, dmax)
-            m0, m1 = 0.5 * (a0 + b0), 0.5 * (a1_ + b1)
-            t_prop = _thrust(kf, kr, m0)
-            x_p = (1.0 - t_ded) * t_prop
-            u_a = (1.0 - w_frac) * u_r
-            q = u_a * abs(u_a) + eta_s * 2.0 * max(t_prop, 0.0) / (rho * area)
-            sd, cd = np.sin(m1), np.cos(m1)
-            f_n = 0.5 * rho * a_r * slope * sd * q
-            tx, ty = x_p - f_n * sd, -f_n * cd
-            tn = -yprop * x_p + x_r * ty
-            va = (1.0 - w_frac) * (u_r if t_prop >= 0.0 else -u_r)
-            pw = _disc_power(t_prop, va, area, rho)
-        act[i, 0], act[i, 1] = b0, b1
-        out[i, OUT_HEADING_D] = psi_g
-        out[i, OUT_SPEED_D] = u_d
-        out[i, OUT_XTE] = e
-        out[i, OUT_DONE] = 1.0 if done[i] else 0.0
-        out[i, OUT_LEG] = k
-        out[i, OUT_TAU], out[i, OUT_TAU + 1], out[i, OUT_TAU + 2] = tx, ty, tn
-        out[i, OUT_POWER] = pw
-        out[i, OUT_SURGE_CMD], out[i, OUT_RUDDER_CMD] = force, rudder
-        out[i, OUT_ALONG] = s_along
+        control_one(i, eta[i, 0], eta[i, 1], eta[i, 2], nu[i, 0], nu[i, 1], nu[i, 2], cur[i, 0], cur[i, 1], wp, count,
+                    los, legs, pil, ap, layout, dt, leg, e_int, done, pid, ref, act, out)  # fmt: skip
 
 
 def compiled_tick(stack: CompiledStack, state: TickState, eta: FloatArray, nu: FloatArray, current_ned: FloatArray,
