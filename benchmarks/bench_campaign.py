@@ -3,8 +3,9 @@
 Runs the built-in ``skerrow_sound`` scenario (600 s at dt = 0.1 s, 10 Hz
 control, K = 100 wave components, wind gusts, current) through the inline
 executor in vectorised batches, with recording on, and the same trials one
-at a time (batch size 1: a per-trial Python loop through the same blocks),
-the reference batching is measured against, in the same process.
+at a time through the plain numpy blocks (batch size 1, ``engine="numpy"``:
+a per-trial Python loop), the reference batching and compiling are measured
+against, in the same process.
 
 Prints wall time, trials x steps per second (scenario steps; trials that
 complete their mission early stop early, as in a real campaign, and the
@@ -51,8 +52,9 @@ def main() -> None:
     # warm-up: compile kernels, identify the craft's Nomoto model (cached for the campaign)
     pilot_for(spec, spec.craft.build())
     run_campaign(spec, trials=2, batch_size=2, progress=False)
+    run_campaign(spec, trials=1, batch_size=1, progress=False, engine="numpy")
     t0 = time.perf_counter()
-    ref = run_campaign(spec, trials=args.reference_trials, batch_size=1, progress=False)
+    ref = run_campaign(spec, trials=args.reference_trials, batch_size=1, progress=False, engine="numpy")
     t_ref = time.perf_counter() - t0
     rate_ref = _steps(ref) / t_ref
     t0 = time.perf_counter()

@@ -20,8 +20,8 @@ def test_compiled_tick_gives_the_numpy_blocks_bits(name: str) -> None:
     spec = dataclasses.replace(spec, scenario=dataclasses.replace(spec.scenario, duration_s=90.0))
     env = build_environment(spec, TrialStreams(spec.campaign.seed, range(5)))
     setup = build_trial_setup(spec, env)
-    fast = run_batch(spec, setup, compiled=True)
-    slow = run_batch(spec, setup, compiled=False)
+    fast = run_batch(spec, setup, engine="tick")
+    slow = run_batch(spec, setup, engine="numpy")
     for key, col in fast.metrics.items():
         np.testing.assert_array_equal(col, slow.metrics[key], err_msg=key)
     for key, arr in fast.record.data.items():
@@ -38,5 +38,5 @@ def test_compiled_path_refuses_user_blocks() -> None:
     setup = build_trial_setup(spec, env)
     mine = dataclasses.replace(setup.guide)
     assert isinstance(mine, LosGuide)
-    with pytest.raises(ParameterError, match="compiled"):
-        run_batch(spec, setup, guide=mine, compiled=True)
+    with pytest.raises(ParameterError, match="engine"):
+        run_batch(spec, setup, guide=mine, engine="tick")

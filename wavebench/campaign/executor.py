@@ -122,6 +122,7 @@ def run_campaign(
     progress: bool = True,
     guide_factory: Callable[[Any], Any] | None = None,
     pilot_factory: Callable[[Any], Any] | None = None,
+    engine: str | None = None,
 ) -> CampaignResult:
     """Run a campaign inline, in vectorised batches.
 
@@ -138,6 +139,9 @@ def run_campaign(
         ``factory(setup)`` returns a guide / pilot replacing the spec's
         built-in one for a batch (e.g. a user block or a per-trial adapter
         built from ``setup.env.trials.trials``).
+    engine : {"fused", "tick", "numpy"}, optional
+        How batches are stepped (see :func:`~wavebench.trial.loop.run_batch`);
+        the default is the fastest that runs the blocks in use.
 
     Returns
     -------
@@ -170,7 +174,7 @@ def run_campaign(
                     spec, setup, record=record,
                     guide=guide_factory(setup) if guide_factory else None,
                     pilot=pilot_factory(setup) if pilot_factory else None,
-                    on_progress=lambda f, n=idx.size: bar.update(f * n),
+                    on_progress=lambda f, n=idx.size: bar.update(f * n), engine=engine,
                 )  # fmt: skip
                 cols = res.metrics
             except ParameterError:

@@ -495,6 +495,20 @@ def advance_one(x, y, psi, u, v, r, pw, h, om, kc, ks, ep, scale, beta, w, cb, s
     return x, y, psi, u, v, r, pw
 
 
+@numba.njit(cache=True, fastmath={"reassoc", "contract"})
+def advance_trial(x, y, psi, u, v, r, pw, h, om, kc, ks, ep, scale, beta, w, cb, sb, roots, tx0, ty0, tn0, vcn, vce,
+                  pil_row, use_pilot, step0, dt, n_steps, tol, midpoint):  # fmt: skip
+    """:func:`advance_one` compiled with the batch kernel's floating-point flags, to call from other kernels."""
+    return advance_one(x, y, psi, u, v, r, pw, h, om, kc, ks, ep, scale, beta, w, cb, sb, roots, tx0, ty0, tn0, vcn,
+                       vce, pil_row, use_pilot, step0, dt, n_steps, tol, midpoint)  # fmt: skip
+
+
+@numba.njit(cache=True, fastmath={"reassoc", "contract"})
+def weights_at(w: np.ndarray, beta: np.ndarray, scale: np.ndarray, roots: np.ndarray, psi: float) -> None:
+    """Newman weights at heading ``psi`` into ``w`` (6, K), with the batch kernel's floating-point flags."""
+    _weights(w, beta, scale, roots, psi)
+
+
 @numba.njit(parallel=True, cache=True, fastmath={"reassoc", "contract"})
 def _advance_kernel(eta, nu, psi_w, tau, cur, hull, waves, roots, pil, use_pilot, step0, dt, n_steps, tol, midpoint,
                     wbuf, wpsi, use_ws):  # fmt: skip
