@@ -231,14 +231,12 @@ def run_fused(
     steps_run : int
         Time steps of the longest-running trial.
     """
+    from .loop import control_grid
+
     env = setup.env
     n = env.n_trials
     dt = spec.scenario.dt_s
-    k = spec.control_steps
-    period = k * dt
-    n_ticks = spec.scenario.n_steps // k
-    rec_every = max(spec.record_steps // k, 1)
-    n_rec = -(-n_ticks // rec_every)
+    k, period, n_ticks, rec_every, n_rec = control_grid(spec)
     act = setup.actuation
     stack = CompiledStack.pack(setup.guide, setup.pilot, act)
     eta, nu = setup.eta0.copy(), setup.nu0.copy()
