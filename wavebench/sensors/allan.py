@@ -75,7 +75,7 @@ def allan_taus(n_samples: int, dt_s: float, *, per_decade: int = 10) -> NDArray[
     Parameters
     ----------
     n_samples : int
-        Length of the rate record, >= 2.
+        Length of the rate record, >= 3.
     dt_s : float
         Sample interval [s], > 0.
     per_decade : int
@@ -85,19 +85,20 @@ def allan_taus(n_samples: int, dt_s: float, *, per_decade: int = 10) -> NDArray[
     -------
     ndarray of shape (n_taus,)
         Distinct ``tau = m dt_s`` [s] with whole ``m`` from 1 to
-        ``n_samples // 2``, increasing.
+        ``(n_samples - 1) // 2`` (so that every estimate averages at least
+        two second differences), increasing.
 
     Examples
     --------
     >>> allan_taus(100, 0.5, per_decade=2).tolist()
-    [0.5, 2.0, 7.0, 25.0]
+    [0.5, 2.0, 6.5, 24.5]
     """
     dt = _check_dt(dt_s)
-    if isinstance(n_samples, (bool, np.bool_)) or not isinstance(n_samples, (int, np.integer)) or n_samples < 2:
-        raise ParameterError("n_samples", n_samples, "must be a whole number >= 2")
+    if isinstance(n_samples, (bool, np.bool_)) or not isinstance(n_samples, (int, np.integer)) or n_samples < 3:
+        raise ParameterError("n_samples", n_samples, "must be a whole number >= 3")
     if isinstance(per_decade, (bool, np.bool_)) or not isinstance(per_decade, (int, np.integer)) or per_decade < 1:
         raise ParameterError("per_decade", per_decade, "must be a whole number >= 1")
-    m_max = int(n_samples) // 2
+    m_max = max((int(n_samples) - 1) // 2, 1)
     count = math.floor(per_decade * math.log10(m_max)) + 1
     m = np.unique(np.rint(np.logspace(0.0, math.log10(m_max), count)).astype(np.int64))
     return m * dt

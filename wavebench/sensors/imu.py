@@ -24,7 +24,10 @@ and the same for the accelerometer, where
   standard deviation ``N / sqrt(dt)`` (IEEE Std 952-1997 convention; see
   :mod:`wavebench.sensors.noise`).
 
-Misalignment, g-sensitivity, non-linearity and quantisation are left out.
+The white noise stands for the rate averaged over each interval ``dt``; the
+biases are point samples at ``t_k``, which differs from interval averages by
+``O(dt / T_c)`` -- negligible for ``T_c >> dt``. Misalignment,
+g-sensitivity, non-linearity and quantisation are left out.
 
 Bias instability as a Gauss--Markov process
 -------------------------------------------
@@ -428,6 +431,13 @@ def imu_measure(
             true_specific_force_mps2,
             f"must have the shape of true_rate_rad_s {rate.shape}",
         )
+
+    for f in dataclasses.fields(grade):
+        value = np.asarray(getattr(grade, f.name))
+        if value.ndim > 1 or (value.ndim == 1 and value.shape[0] != n_trials):
+            raise ParameterError(
+                f.name, getattr(grade, f.name), f"must be a scalar or an array of shape (n_trials,) = ({n_trials},)"
+            )
 
     def arr(value: Any, factor: float) -> Any:
         return np.asarray(value, dtype=float) * factor
