@@ -47,6 +47,7 @@ from ..core.errors import ParameterError
 from ..core.frames import rot_zyx
 from ..core.params import Params, bounded
 from ..sea.seabed import SeabedGrid
+from .arrays import finite_array, per_trial
 from .ranging import seabed_depth_below
 
 __all__ = [
@@ -57,25 +58,6 @@ __all__ = [
     "dvl_noise_sd_mps",
     "dvl_velocity_body",
 ]
-
-
-def _finite(name: str, value: ArrayLike) -> NDArray[np.float64]:
-    if value is None or isinstance(value, (bool, str, bytes)):
-        raise ParameterError(name, value, "must be a finite number or array")
-    try:
-        arr = np.asarray(value, dtype=float)
-    except (TypeError, ValueError):
-        raise ParameterError(name, value, "must be a finite number or array") from None
-    if not np.all(np.isfinite(arr)):
-        raise ParameterError(name, arr if arr.ndim else float(arr), "must be finite")
-    return arr
-
-
-def _per_trial(value: ArrayLike, ndim: int) -> NDArray[np.float64]:
-    v = np.asarray(value, dtype=float)
-    if v.ndim == 1 and ndim > 1:
-        return v.reshape((v.shape[0],) + (1,) * (ndim - 1))
-    return v
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -174,10 +156,10 @@ def dvl_altitude_m(
         ``depth(n, e) + water_level - transducer_depth`` [m]; NaN off a grid
         without fill depth.
     """
-    n = _finite("north_m", north_m)
-    e = _finite("east_m", east_m)
-    z = _finite("transducer_depth_m", transducer_depth_m)
-    wl = _finite("water_level_m", water_level_m)
+    n = finite_array("north_m", north_m)
+    e = finite_array("east_m", east_m)
+    z = finite_array("transducer_depth_m", transducer_depth_m)
+    wl = finite_array("water_level_m", water_level_m)
     try:
         shape = np.broadcast_shapes(n.shape, e.shape, z.shape, wl.shape)
     except ValueError:
@@ -228,13 +210,13 @@ def dvl_velocity_body(
     >>> dvl_velocity_body([0.0], [2.0], [np.pi / 2]).round(12)  # heading east, moving east
     array([[2., 0., 0.]])
     """
-    vn = _finite("velocity_north_mps", velocity_north_mps)
-    ve = _finite("velocity_east_mps", velocity_east_mps)
-    vd = _finite("velocity_down_mps", velocity_down_mps)
-    psi = _finite("heading_rad", heading_rad)
-    phi = _finite("roll_rad", roll_rad)
-    theta = _finite("pitch_rad", pitch_rad)
-    r = _finite("yaw_rate_radps", yaw_rate_radps)
+    vn = finite_array("velocity_north_mps", velocity_north_mps)
+    ve = finite_array("velocity_east_mps", velocity_east_mps)
+    vd = finite_array("velocity_down_mps", velocity_down_mps)
+    psi = finite_array("heading_rad", heading_rad)
+    phi = finite_array("roll_rad", roll_rad)
+    theta = finite_array("pitch_rad", pitch_rad)
+    r = finite_array("yaw_rate_radps", yaw_rate_radps)
     arrays = {
         "velocity_north_mps": vn,
         "velocity_east_mps": ve,
@@ -251,7 +233,7 @@ def dvl_velocity_body(
         raise ParameterError("velocity_east_mps", shapes, "inputs must broadcast to one shape") from None
     if len(shape) > 2:
         raise ParameterError("velocity_north_mps", shape, "must be of shape (n_trials,) or (n_trials, n_samples)")
-    lever = _finite("lever_arm_m", lever_arm_m)
+    lever = finite_array("lever_arm_m", lever_arm_m)
     if lever.shape == (3,):
         pass
     elif lever.ndim == 2 and lever.shape[1] == 3 and len(shape) >= 1 and lever.shape[0] == shape[0]:
@@ -264,7 +246,7 @@ def dvl_velocity_body(
     rb = np.broadcast_to(r, shape)
     v_body[..., 0] -= rb * lever[..., 1]
     v_body[..., 1] += rb * lever[..., 0]
-    wave = _finite("wave_velocity_body_mps", wave_velocity_body_mps)
+    wave = finite_array("wave_velocity_body_mps", wave_velocity_body_mps)
     try:
         out = v_body + wave
     except ValueError:
@@ -293,9 +275,9 @@ def dvl_noise_sd_mps(speed_mps: ArrayLike, params: DvlParams) -> NDArray[np.floa
     >>> float(dvl_noise_sd_mps(2.0, DvlParams(noise_floor_mps=0.001, noise_speed_fraction=0.01)))
     0.021
     """
-    v = _finite("speed_mps", speed_mps)
+    v = finite_array("speed_mps", speed_mps)
     nd = v.ndim
-    return _per_trial(params.noise_floor_mps, nd) + _per_trial(params.noise_speed_fraction, nd) * np.abs(v)
+    return per_trial(params.noise_floor_mps, nd) + per_trial(params.noise_speed_fraction, nd) * np.abs(v)
 
 
 def dvl_measurement(
@@ -331,7 +313,7 @@ def dvl_measurement(
     """
     if not isinstance(params, DvlParams):
         raise ParameterError("params", type(params).__name__, "must be DvlParams")
-    v = _finite("velocity_body_mps", velocity_body_mps)
+    v = finite_array("velocity_body_mps", velocity_body_mps)
     if v.ndim not in (2, 3) or v.shape[-1] != 3:
         raise ParameterError("velocity_body_mps", v, "must have shape (n_trials, 3) or (n_trials, n_samples, 3)")
     h = np.asarray(altitude_m, dtype=float)
@@ -340,11 +322,11 @@ def dvl_measurement(
     nd = h.ndim
     with np.errstate(invalid="ignore"):
         valid = (
-            np.isfinite(h) & (h >= _per_trial(params.min_altitude_m, nd)) & (h <= _per_trial(params.max_altitude_m, nd))
+            np.isfinite(h) & (h >= per_trial(params.min_altitude_m, nd)) & (h <= per_trial(params.max_altitude_m, nd))
         )
     sd = dvl_noise_sd_mps(np.linalg.norm(v, axis=-1), params)[..., None]
-    k = _per_trial(_finite("scale_factor_error", scale_factor_error), nd + 1)
-    z = _finite("unit_noise", unit_noise)
+    k = per_trial(finite_array("scale_factor_error", scale_factor_error), nd + 1)
+    z = finite_array("unit_noise", unit_noise)
     try:
         out = (1.0 + k) * v + sd * z
     except ValueError:

@@ -66,6 +66,7 @@ from numpy.typing import ArrayLike, NDArray
 from ..core.errors import ParameterError, WavebenchWarning
 from ..core.frames import wrap_pi
 from ..core.params import Params, bounded
+from .arrays import finite_array, per_trial
 
 __all__ = [
     "A424_MAX_LATITUDE_DEG",
@@ -86,26 +87,6 @@ A424_RMS_ERROR_DEG = 0.25
 #: IMO A.424(XI): highest latitude the accuracy figures apply to [deg]
 #: (value from memory, not re-checked).
 A424_MAX_LATITUDE_DEG = 60.0
-
-
-def _finite(name: str, value: ArrayLike) -> NDArray[np.float64]:
-    if value is None or isinstance(value, (bool, str, bytes)):
-        raise ParameterError(name, value, "must be a finite number or array")
-    try:
-        arr = np.asarray(value, dtype=float)
-    except (TypeError, ValueError):
-        raise ParameterError(name, value, "must be a finite number or array") from None
-    if not np.all(np.isfinite(arr)):
-        raise ParameterError(name, arr if arr.ndim else float(arr), "must be finite")
-    return arr
-
-
-def _per_trial(value: ArrayLike, ndim: int) -> NDArray[np.float64]:
-    """Reshape a per-trial parameter (n_trials,) to broadcast against rank ``ndim`` arrays."""
-    v = np.asarray(value, dtype=float)
-    if v.ndim == 1 and ndim > 1:
-        return v.reshape((v.shape[0],) + (1,) * (ndim - 1))
-    return v
 
 
 def _sum_wrapped(heading: NDArray[np.float64], *terms: tuple[str, NDArray[np.float64]]) -> NDArray[np.float64]:
@@ -180,9 +161,9 @@ def compass_deviation_rad(heading_rad: ArrayLike, params: CompassParams) -> NDAr
     ndarray, shape of ``heading_rad``
         Reading error [rad] (not wrapped).
     """
-    psi = _finite("heading_rad", heading_rad)
+    psi = finite_array("heading_rad", heading_rad)
     nd = psi.ndim
-    a, b, c, d, e = (np.radians(_per_trial(getattr(params, f"deviation_{k}_deg"), nd)) for k in "abcde")
+    a, b, c, d, e = (np.radians(per_trial(getattr(params, f"deviation_{k}_deg"), nd)) for k in "abcde")
     return a + b * np.sin(psi) + c * np.cos(psi) + d * np.sin(2.0 * psi) + e * np.cos(2.0 * psi)
 
 
@@ -218,16 +199,16 @@ def compass_heading(
     >>> float(np.degrees(compass_heading(np.radians(359.0), p)).round(9))
     1.0
     """
-    psi = _finite("heading_rad", heading_rad)
+    psi = finite_array("heading_rad", heading_rad)
     if not isinstance(params, CompassParams):
         raise ParameterError("params", type(params).__name__, "must be CompassParams")
-    bias = np.radians(_per_trial(params.bias_deg, psi.ndim))
+    bias = np.radians(per_trial(params.bias_deg, psi.ndim))
     dev = compass_deviation_rad(psi, params)
     return _sum_wrapped(
         psi,
         ("bias_deg", bias + dev),
-        ("disturbance_rad", _finite("disturbance_rad", disturbance_rad)),
-        ("noise_rad", _finite("noise_rad", noise_rad)),
+        ("disturbance_rad", finite_array("disturbance_rad", disturbance_rad)),
+        ("noise_rad", finite_array("noise_rad", noise_rad)),
     )
 
 
@@ -283,7 +264,7 @@ def gyrocompass_error_bound_deg(
     >>> round(gyrocompass_error_bound_deg(60.0), 12)
     1.5
     """
-    lat = _finite("latitude_deg", latitude_deg)
+    lat = finite_array("latitude_deg", latitude_deg)
     if not (isinstance(limit_deg, (int, float)) and not isinstance(limit_deg, bool)) or not (
         math.isfinite(limit_deg) and limit_deg > 0.0
     ):
@@ -390,6 +371,6 @@ def gyrocompass_heading(
     >>> float(np.degrees(gyrocompass_heading(np.radians(-179.5), settle_error_rad=np.radians(-1.0))).round(9))
     179.5
     """
-    psi = _finite("heading_rad", heading_rad)
-    settle = _per_trial(_finite("settle_error_rad", settle_error_rad), psi.ndim)
-    return _sum_wrapped(psi, ("settle_error_rad", settle), ("noise_rad", _finite("noise_rad", noise_rad)))
+    psi = finite_array("heading_rad", heading_rad)
+    settle = per_trial(finite_array("settle_error_rad", settle_error_rad), psi.ndim)
+    return _sum_wrapped(psi, ("settle_error_rad", settle), ("noise_rad", finite_array("noise_rad", noise_rad)))

@@ -79,6 +79,7 @@ from numpy.typing import ArrayLike, NDArray
 from ..core.errors import ParameterError, WavebenchWarning
 from ..core.params import Params, bounded
 from ..sea.seabed import SeabedGrid, depth_at
+from .arrays import finite_array, per_trial
 
 __all__ = [
     "MACKENZIE_VALIDITY",
@@ -113,30 +114,10 @@ UNESCO_SOUND_SPEED_VALIDITY = {
 # ---------------------------------------------------------------------------
 
 
-def _finite(name: str, value: ArrayLike) -> NDArray[np.float64]:
-    if value is None or isinstance(value, (bool, str, bytes)):
-        raise ParameterError(name, value, "must be a finite number or array")
-    try:
-        arr = np.asarray(value, dtype=float)
-    except (TypeError, ValueError):
-        raise ParameterError(name, value, "must be a finite number or array") from None
-    if not np.all(np.isfinite(arr)):
-        raise ParameterError(name, arr if arr.ndim else float(arr), "must be finite")
-    return arr
-
-
-def _per_trial(value: ArrayLike, ndim: int) -> NDArray[np.float64]:
-    """Reshape a per-trial value of shape (n_trials,) to broadcast against rank ``ndim`` arrays."""
-    v = np.asarray(value, dtype=float)
-    if v.ndim == 1 and ndim > 1:
-        return v.reshape((v.shape[0],) + (1,) * (ndim - 1))
-    return v
-
-
 def _add(name: str, base: NDArray[np.float64], term: ArrayLike, ndim: int | None = None) -> NDArray[np.float64]:
-    t = _finite(name, term)
+    t = finite_array(name, term)
     if ndim is not None:
-        t = _per_trial(t, ndim)
+        t = per_trial(t, ndim)
     try:
         out = base + t
     except ValueError:
@@ -249,9 +230,9 @@ def mackenzie_sound_speed(
     >>> round(mackenzie_sound_speed(25.0, 35.0, 1000.0), 3)
     1550.744
     """
-    t = _finite("temperature_c", temperature_c)
-    s = _finite("salinity_ppt", salinity_ppt)
-    d = _finite("depth_m", depth_m)
+    t = finite_array("temperature_c", temperature_c)
+    s = finite_array("salinity_ppt", salinity_ppt)
+    d = finite_array("depth_m", depth_m)
     _validity("Mackenzie (1981)", MACKENZIE_VALIDITY, {"temperature_c": t, "salinity_ppt": s, "depth_m": d}, strict)
     ds = s - 35.0
     c = (
@@ -305,9 +286,9 @@ def unesco_sound_speed(
     >>> round(unesco_sound_speed(40.0, 40.0, 10000.0), 3)
     1731.995
     """
-    t = _finite("temperature_c", temperature_c)
-    s = _finite("salinity_psu", salinity_psu)
-    p0 = _finite("pressure_dbar", pressure_dbar)
+    t = finite_array("temperature_c", temperature_c)
+    s = finite_array("salinity_psu", salinity_psu)
+    p0 = finite_array("pressure_dbar", pressure_dbar)
     _validity(
         "Chen & Millero (1977)",
         UNESCO_SOUND_SPEED_VALIDITY,
@@ -359,8 +340,8 @@ def unesco_depth_from_pressure(pressure_dbar: ArrayLike, latitude_deg: ArrayLike
     >>> round(unesco_depth_from_pressure(10000.0, 30.0), 3)
     9712.653
     """
-    p = _finite("pressure_dbar", pressure_dbar)
-    lat = _finite("latitude_deg", latitude_deg)
+    p = finite_array("pressure_dbar", pressure_dbar)
+    lat = finite_array("latitude_deg", latitude_deg)
     if np.any(p < 0.0):
         raise ParameterError("pressure_dbar", p if p.ndim else float(p), "must be >= 0")
     if np.any(np.abs(lat) > 90.0):
@@ -437,13 +418,13 @@ def depth_sensor(
     """
     if not isinstance(params, DepthSensorParams):
         raise ParameterError("params", type(params).__name__, "must be DepthSensorParams")
-    d = _finite("depth_m", depth_m)
+    d = finite_array("depth_m", depth_m)
     nd = d.ndim
     x = np.maximum(d, 0.0)
     x = _add("bias_m", x, bias_m, nd)
     x = _add("noise_m", x, noise_m)
-    x = _quantise(x, _per_trial(params.resolution_m, nd))
-    valid = np.broadcast_to(d <= _per_trial(params.full_scale_m, nd), d.shape).copy()
+    x = _quantise(x, per_trial(params.resolution_m, nd))
+    valid = np.broadcast_to(d <= per_trial(params.full_scale_m, nd), d.shape).copy()
     return Reading(value=np.where(valid, x, np.nan), valid=valid)
 
 
@@ -526,10 +507,10 @@ def altimeter_range(
     """
     if not isinstance(params, AltimeterParams):
         raise ParameterError("params", type(params).__name__, "must be AltimeterParams")
-    n = _finite("north_m", north_m)
-    e = _finite("east_m", east_m)
-    zt = _finite("transducer_depth_m", transducer_depth_m)
-    wl = _finite("water_level_m", water_level_m)
+    n = finite_array("north_m", north_m)
+    e = finite_array("east_m", east_m)
+    zt = finite_array("transducer_depth_m", transducer_depth_m)
+    wl = finite_array("water_level_m", water_level_m)
     try:
         shape = np.broadcast_shapes(n.shape, e.shape, zt.shape, wl.shape)
     except ValueError:
@@ -551,8 +532,8 @@ def altimeter_range(
     with np.errstate(invalid="ignore"):
         valid = (
             np.isfinite(beam_range)
-            & (beam_range >= _per_trial(params.min_range_m, nd))
-            & (beam_range <= _per_trial(params.max_range_m, nd))
+            & (beam_range >= per_trial(params.min_range_m, nd))
+            & (beam_range <= per_trial(params.max_range_m, nd))
         )
     valid = np.broadcast_to(valid, shape).copy()
     value = _add("noise_m", np.where(valid, beam_range, 0.0), noise_m)
@@ -625,8 +606,8 @@ def slant_range_m(position_ned_m: ArrayLike, beacon_ned_m: ArrayLike) -> NDArray
     >>> slant_range_m([[0.0, 0.0, 0.0]], [[3.0, 4.0, 0.0], [0.0, 0.0, 12.0]]).tolist()
     [[5.0, 12.0]]
     """
-    p = _finite("position_ned_m", position_ned_m)
-    b = _finite("beacon_ned_m", beacon_ned_m)
+    p = finite_array("position_ned_m", position_ned_m)
+    b = finite_array("beacon_ned_m", beacon_ned_m)
     if p.ndim not in (1, 2, 3) or p.shape[-1] != 3:
         raise ParameterError("position_ned_m", p, "must have shape (n_trials, 3) or (n_trials, n_samples, 3)")
     if b.ndim == 1 and b.shape == (3,):
@@ -686,7 +667,7 @@ def acoustic_range(
         raise ParameterError("params", type(params).__name__, "must be AcousticRangeParams")
     r = slant_range_m(position_ned_m, beacon_ned_m)
     nd = r.ndim
-    c = _per_trial(_finite("sound_speed_mps", sound_speed_mps), nd)
+    c = per_trial(finite_array("sound_speed_mps", sound_speed_mps), nd)
     if np.any(c <= 0.0):
         raise ParameterError("sound_speed_mps", c if c.ndim else float(c), "must be > 0")
     try:
@@ -695,8 +676,8 @@ def acoustic_range(
         raise ParameterError("sound_speed_mps", c, f"must be a scalar, (n_trials,) or broadcast to {r.shape}") from None
     if t.shape != r.shape:
         raise ParameterError("sound_speed_mps", c, f"must broadcast to the range shape {r.shape}")
-    reported = _per_trial(params.assumed_sound_speed_mps, nd) * t
+    reported = per_trial(params.assumed_sound_speed_mps, nd) * t
     reported = _add("noise_m", reported, noise_m)
     reported = _add("outlier_m", reported, outlier_m)
-    valid = np.broadcast_to(r <= _per_trial(params.max_range_m, nd), r.shape).copy()
+    valid = np.broadcast_to(r <= per_trial(params.max_range_m, nd), r.shape).copy()
     return AcousticRangeReading(range_m=np.where(valid, reported, np.nan), travel_time_s=t, valid=valid)
