@@ -42,6 +42,11 @@ METRICS: dict[str, MetricInfo] = {
     "xte_line_rms_m": MetricInfo("m", "RMS cross-track error on the lines, past each line's run-in"),
     "xte_line_p95_m": MetricInfo("m", "95th percentile of |cross-track error| on the lines, past each line's run-in"),
     "xte_line_max_m": MetricInfo("m", "largest |cross-track error| on the lines, past each line's run-in"),
+    "nav_err_rms_m": MetricInfo(
+        "m", "RMS horizontal navigation error, estimate minus truth (NaN for truth navigation)"
+    ),
+    "nav_err_p95_m": MetricInfo("m", "95th percentile of the horizontal navigation error"),
+    "nav_err_max_m": MetricInfo("m", "largest horizontal navigation error"),
     "heading_err_rms_deg": MetricInfo("deg", "root-mean-square heading error against the guide's desired heading"),
     "speed_err_rms_mps": MetricInfo("m/s", "root-mean-square surge speed error against the speed schedule"),
     "distance_m": MetricInfo("m", "distance sailed over ground"),

@@ -55,6 +55,7 @@ class MetricAccumulator:
         self.line_abs = np.full((n_trials, n_ticks), np.nan)
         self.line_count = np.zeros(n_trials)
         self.line_sum2 = np.zeros(n_trials)
+        self.nav_err: list[FloatArray] = []
         self.count = np.zeros(n_trials)
         self.sum_xte2 = np.zeros(n_trials)
         self.sum_head2 = np.zeros(n_trials)
@@ -90,6 +91,10 @@ class MetricAccumulator:
         self.line_abs[on_line, tick] = np.abs(xte_m[on_line])
         self.line_count += on_line
         self.line_sum2 += np.where(on_line, xte_m * xte_m, 0.0)
+
+    def sample_nav(self, active: NDArray[np.bool_], error_m: FloatArray) -> None:
+        """Add one control period's horizontal navigation error [m] (estimate minus truth) of the active trials."""
+        self.nav_err.append(np.where(active, error_m, np.nan))
 
     def motion(self, active: NDArray[np.bool_], step_m: FloatArray, power_w: FloatArray) -> None:
         """Add one control period's distance [m] and energy for the ``active`` trials."""
@@ -134,6 +139,17 @@ class MetricAccumulator:
             rows = self.line_abs[has_line]
             line_p95[has_line] = np.nanpercentile(rows, 95.0, axis=1)
             line_max[has_line] = np.nanmax(rows, axis=1)
+        nav_rms = np.full(self.n, np.nan)
+        nav_p95 = np.full(self.n, np.nan)
+        nav_max = np.full(self.n, np.nan)
+        if self.nav_err:
+            errs = np.stack(self.nav_err, axis=1)
+            has_nav = np.any(np.isfinite(errs), axis=1)
+            if np.any(has_nav):
+                e = errs[has_nav]
+                nav_rms[has_nav] = np.sqrt(np.nanmean(e * e, axis=1))
+                nav_p95[has_nav] = np.nanpercentile(e, 95.0, axis=1)
+                nav_max[has_nav] = np.nanmax(e, axis=1)
         completed = ~np.isnan(self.done_time) & ~self.failed
         ended = np.where(self.failed, "failed", np.where(completed, "completed", "truncated")).astype(object)
         dukc = np.full(self.n, np.nan)
@@ -149,6 +165,9 @@ class MetricAccumulator:
             "xte_line_rms_m": line_rms,
             "xte_line_p95_m": line_p95,
             "xte_line_max_m": line_max,
+            "nav_err_rms_m": nav_rms,
+            "nav_err_p95_m": nav_p95,
+            "nav_err_max_m": nav_max,
             "heading_err_rms_deg": np.degrees(rms(self.sum_head2)),
             "speed_err_rms_mps": rms(self.sum_speed2),
             "distance_m": self.distance.copy(),
@@ -159,7 +178,7 @@ class MetricAccumulator:
             "failure_reason": self.reason.copy(),
         }
         for name in ("xte_rms_m", "xte_p95_m", "xte_max_m", "xte_line_rms_m", "xte_line_p95_m", "xte_line_max_m",
-                     "heading_err_rms_deg", "speed_err_rms_mps",
+                     "nav_err_rms_m", "nav_err_p95_m", "nav_err_max_m", "heading_err_rms_deg", "speed_err_rms_mps",
                      "distance_m", "energy_kj", "min_depth_under_keel_m"):  # fmt: skip
             out[name] = np.where(self.failed, np.nan, out[name])
         return out

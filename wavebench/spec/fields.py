@@ -50,6 +50,7 @@ from .distributions import (
 __all__ = [
     "DIST_TYPES",
     "SpecTable",
+    "intervals",
     "like",
     "named_tables",
     "number",
@@ -111,6 +112,11 @@ def numbers(default: Any = _MISSING, *, bounds: Bounds, min_len: int = 1, unit: 
 def texts(default: Any = _MISSING, *, choices: tuple[str, ...], doc: str = "") -> Any:
     """A list of distinct strings, each one of ``choices``, stored as a tuple."""
     return _field(default, {"texts": choices, "doc": doc})
+
+
+def intervals(default: Any = (), *, doc: str = "") -> Any:
+    """A list of ``[start_s, end_s]`` time windows, 0 <= start < end, stored as a tuple of pairs."""
+    return _field(default, {"intervals": True, "doc": doc})
 
 
 def named_tables(cls: type, default: Any = (), *, doc: str = "") -> Any:
@@ -189,6 +195,18 @@ def _validate_fields(obj: Any) -> None:
             object.__setattr__(obj, f.name, _check_points(f.name, value, meta["min_len"]))
         elif "numbers" in meta:
             object.__setattr__(obj, f.name, _check_numbers(f.name, value, meta["numbers"], meta["min_len"]))
+        elif meta.get("intervals"):
+            allowed = "must be a list of [start_s, end_s] windows with 0 <= start_s < end_s"
+            if isinstance(value, (str, bytes, Mapping)) or not isinstance(value, (list, tuple)):
+                raise ParameterError(f.name, value, allowed)
+            windows = []
+            for i, w in enumerate(value):
+                ok = isinstance(w, (list, tuple)) and len(w) == 2
+                ok = ok and all(isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x) for x in w)
+                if not ok or not 0.0 <= w[0] < w[1]:
+                    raise ParameterError(f"{f.name}[{i}]", w, allowed)
+                windows.append((float(w[0]), float(w[1])))
+            object.__setattr__(obj, f.name, tuple(windows))
         elif "texts" in meta:
             choices = meta["texts"]
             if isinstance(value, (str, bytes, Mapping)) or not isinstance(value, (list, tuple)):

@@ -79,6 +79,7 @@ from .fields import (
     table,
     text,
 )
+from .sensors import SensorSpec, check_navigator_needs
 from .tables import (
     CampaignSpec,
     CraftSpec,
@@ -264,6 +265,7 @@ class Spec(SpecTable):
     seabed: SeabedSpec | None = table(SeabedSpec, None)
     mission: MissionSpec = table(MissionSpec)
     stack: StackSpec = table(StackSpec, None)
+    sensors: tuple = named_tables(SensorSpec, doc="sensors by name")
     requirements: tuple = named_tables(RequirementSpec, doc="requirements by name")
     campaign: CampaignSpec = table(CampaignSpec)
 
@@ -285,6 +287,14 @@ class Spec(SpecTable):
                 raise ParameterError(path, value, f"must be a whole number (>= 1) of time steps dt_s = {dt!r}")
             if value > self.scenario.duration_s:
                 raise ParameterError(path, value, f"must be at most duration_s = {self.scenario.duration_s!r}")
+        period = self.control_steps * dt
+        for name, sensor in self.sensors:
+            k = 1.0 / (sensor.rate_hz * period)
+            if abs(k - round(k)) > 1e-9 * max(k, 1.0) or round(k) < 1:
+                raise ParameterError(f"sensors.{name}.rate_hz", sensor.rate_hz,
+                                     f"must give a period that is a whole number (>= 1) of control periods "
+                                     f"({period!r} s)")  # fmt: skip
+        check_navigator_needs(self.stack.navigator, self.sensors)
 
     @property
     def control_steps(self) -> int:

@@ -246,11 +246,12 @@ class PilotSpec(SpecTable):
 class StackSpec(SpecTable):
     """``[stack]``: which block fills each role.
 
-    ``navigator = "truth"`` (the true state; estimators come with the
-    sensors), ``[stack.guide]`` and ``[stack.pilot]`` (defaults if absent).
+    ``navigator = "truth"`` (the true state) or ``"ekf"`` (an extended
+    Kalman filter on the spec's GNSS and compass, :mod:`wavebench.trial.navigator`),
+    ``[stack.guide]`` and ``[stack.pilot]`` (defaults if absent).
     """
 
-    navigator: str = text("truth", choices=("truth",), doc="navigator")
+    navigator: str = text("truth", choices=("truth", "ekf"), doc="navigator")
     guide: GuideSpec = table(GuideSpec, None)
     pilot: PilotSpec = table(PilotSpec, None)
 

@@ -54,6 +54,7 @@ from .compiled import (
     compiled_tick,
 )
 from .fused import run_fused
+from .navigator import EkfNavigator
 from .recorder import Recorder
 from .setup import TrialSetup, truth_nav
 from .signals import GuideOutput
@@ -152,7 +153,7 @@ def run_batch(
     -------
     BatchResult
     """
-    built_in = guide is None and pilot is None
+    built_in = guide is None and pilot is None and setup.navigator == "truth"
     guide = guide or setup.guide
     pilot = pilot or setup.pilot
     check_wiring(guide, pilot)
@@ -161,7 +162,9 @@ def run_batch(
     if engine not in ENGINES:
         raise ParameterError("engine", engine, f"must be one of {list(ENGINES)}")
     if engine != "numpy" and not built_in:
-        raise ParameterError("engine", engine, "the compiled engines run the spec's own guide and pilot only")
+        raise ParameterError(
+            "engine", engine, "the compiled engines run the spec's own guide and pilot with the truth navigator only"
+        )
     if engine == "fused":
         acc_f, rec_f, steps = run_fused(spec, setup, record=record, on_progress=on_progress,
                                         runaway_speed_mps=RUNAWAY_SPEED_MPS,
@@ -182,6 +185,7 @@ def run_batch(
     psi_w = None
     workspace = env.plant.workspace()
     nav = truth_nav(0.0, eta, nu)
+    navigator = EkfNavigator(setup.sensors, eta, nu) if setup.navigator == "ekf" else None
     if compiled:
         stack = CompiledStack.pack(setup.guide, setup.pilot, act)
         tstate = stack.init_state(eta[:, 2], act_state)
@@ -211,7 +215,11 @@ def run_batch(
             tau = out[:, OUT_TAU : OUT_TAU + 3].copy()
             power = out[:, OUT_POWER].copy()
         else:
-            nav = truth_nav(t, eta, nu)
+            if navigator is not None:
+                navigator.update(tick, eta)
+                nav = navigator.nav_state(t)
+            else:
+                nav = truth_nav(t, eta, nu)
             g_state, gout = guide.step(g_state, nav, period)
             p_state, pout = pilot.step(p_state, nav, gout, period)
             nu_r = relative_velocity(eta, nu, cur)
@@ -232,6 +240,8 @@ def run_batch(
             acc.fail(dukc < 0.0, f"grounded at t = {t:.1f} s", grounded=True)
         active = acc.active
         acc.sample(tick, active, gout.cross_track_m, eta[:, 2], gout.heading_d_rad, nu[:, 0], gout.speed_d_mps)
+        if navigator is not None:
+            acc.sample_nav(active, np.hypot(navigator.x[:, 0] - eta[:, 0], navigator.x[:, 1] - eta[:, 1]))
         leg = np.clip(gout.leg, 0, setup.line_legs.shape[1] - 1)
         on_line = active & setup.line_legs[rows, leg] & (gout.along_track_m >= setup.line_run_in_m)
         acc.sample_line(tick, on_line, gout.cross_track_m)
@@ -258,6 +268,8 @@ def run_batch(
         eta, nu, psi_w = advance(env.plant, eta, nu, tick * k, dt, k, tau_ext=tau, current_ned=cur,
                                  drift_heading_rad=psi_w, workspace=workspace)  # fmt: skip
         steps_run += k
+        if navigator is not None:
+            navigator.predict(period)
         acc.motion(active, np.hypot(eta[:, 0] - prev[:, 0], eta[:, 1] - prev[:, 1]), power)
         bad = ~(np.all(np.isfinite(eta), axis=1) & np.all(np.isfinite(nu), axis=1))
         if np.any(bad):

@@ -56,6 +56,7 @@ from ..spec.fields import representative
 from ..spec.schema import Spec
 from .actuation import Actuation
 from .blocks import LosGuide, NomotoPidPilot
+from .navigator import SensorSuite
 from .signals import NavState
 
 __all__ = ["TrialSetup", "build_seabed", "build_trial_setup", "check_spec_against_craft", "nominal_speed", "pilot_for"]
@@ -92,6 +93,10 @@ class TrialSetup:
         mission; the even legs, not the connectors, of a survey pattern).
     line_run_in_m : ndarray of shape (n_trials,)
         Distance along a line before its samples count [m].
+    navigator : str
+        The spec's navigator ("truth" or "ekf").
+    sensors : SensorSuite or None
+        The spec's sensors for this batch (None without sensors).
     """
 
     env: TrialEnvironment
@@ -106,6 +111,8 @@ class TrialSetup:
     abort_cross_track_m: float | None
     line_legs: NDArray[np.bool_]
     line_run_in_m: FloatArray
+    navigator: str = "truth"
+    sensors: SensorSuite | None = None
 
     @property
     def n_trials(self) -> int:
@@ -284,6 +291,8 @@ def build_trial_setup(spec: Spec, env: TrialEnvironment, *, pilot: NomotoPidPilo
         abort_cross_track_m=m.abort_cross_track_m,
         line_legs=np.broadcast_to(np.arange(n_legs) % 2 == 0 if m.kind == "survey" else np.ones(n_legs, dtype=bool),
                                   (n, n_legs)),
+        navigator=spec.stack.navigator,
+        sensors=SensorSuite(spec, env.trials) if spec.sensors else None,
         line_run_in_m=np.broadcast_to(
             m.line_run_in_m if m.line_run_in_m is not None else 2.0 * np.asarray(los.lookahead_m, dtype=float), (n,)
         ),
