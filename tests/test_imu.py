@@ -134,9 +134,9 @@ def test_allan_bad_taus_are_named():
 
 
 def test_gauss_markov_allan_closed_form_and_peak_constants():
-    # El-Sheimy, Hou & Niu (2008) closed form, transcribed here independently; its
+    # El-Sheimy, Hou & Niu (2008) closed form, written out here independently; its
     # maximum (found with scipy) gives the peak constants the IMU model relies on.
-    tau = np.array([0.05, 0.5, 1.0, 2.0, 10.0, 1e3])  # tau/T_c >= 0.025: the transcription is precise
+    tau = np.array([0.05, 0.5, 1.0, 2.0, 10.0, 1e3])  # tau/T_c >= 0.025: the written-out form keeps full precision
     np.testing.assert_allclose(gauss_markov_allan_variance(tau, 1.3, 2.0), el_sheimy_gm_avar(tau, 1.3, 2.0), rtol=1e-9)
     # El-Sheimy et al. (2008): for tau << T_c the process looks like a rate random walk
     # with K^2 = q_c^2 = 2 sigma^2 / T_c, i.e. sigma_A^2 = K^2 tau / 3

@@ -28,7 +28,7 @@ G = 9.81
 
 
 def dnv_jonswap_reference(w: float, hs: float, tp: float, gamma: float) -> float:
-    """DNV-RP-C205 (2010) sec. 3.5.5 JONSWAP, transcribed independently, scalar."""
+    """DNV-RP-C205 (2010) sec. 3.5.5 JONSWAP, written out independently, scalar."""
     wp = 2.0 * math.pi / tp
     s_pm = 5.0 / 16.0 * hs**2 * wp**4 * w**-5 * math.exp(-1.25 * (w / wp) ** -4)
     sigma = 0.07 if w <= wp else 0.09

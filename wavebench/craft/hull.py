@@ -43,7 +43,7 @@ mass entering ``M_A``, ``C_A`` and the kinetic energy is
 Every numeric parameter may be a per-trial array of shape (n_trials,); all
 functions broadcast parameters over the leading trial axis. The arithmetic of
 :func:`derivative` is written column by column (one (N,) array per scalar
-quantity) so that it reads like scalar code and can be transcribed into a
+quantity) so that it reads like scalar code and can be carried over into a
 compiled per-trial kernel; this numpy version is the oracle for such a kernel.
 
 References
