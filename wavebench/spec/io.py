@@ -25,8 +25,8 @@ import tomli_w
 from ..core.errors import ParameterError
 from ..core.params import Params
 from .distributions import distribution_to_data
-from .fields import params_tree_to_data
-from .schema import _DIST_TYPES, Spec, _Table, spec_from_data, spec_to_data
+from .fields import DIST_TYPES, SpecTable, params_tree_to_data
+from .schema import Spec, spec_from_data, spec_to_data
 
 if sys.version_info >= (3, 11):
     import tomllib
@@ -118,7 +118,7 @@ def _items(obj: Any) -> list[tuple[str, Any, bool]]:
         if "named_tables" in f.metadata:
             items.extend((f"{f.name}.{name}", sub, True) for name, sub in value)
         else:
-            items.append((f.name, value, isinstance(value, (Params, _Table))))
+            items.append((f.name, value, isinstance(value, (Params, SpecTable))))
     return items
 
 
@@ -127,7 +127,7 @@ def _emit(obj: Any, name: str, out: list[str]) -> None:
     for key, value, is_table in _items(obj):
         if is_table:
             tables.append((key, value))
-        elif isinstance(value, _DIST_TYPES):
+        elif isinstance(value, DIST_TYPES):
             lines.append(f"{key} = {_inline(distribution_to_data(value))}")
         else:
             lines.append(f"{key} = {_literal(value)}")

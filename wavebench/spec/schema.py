@@ -116,9 +116,6 @@ __all__ = [
 #: The schema version this module reads and writes.
 SPEC_VERSION = 1
 
-# kept for modules that imported the old private names
-_DIST_TYPES = DIST_TYPES
-_Table = SpecTable
 _MISSING = dataclasses.MISSING
 
 
@@ -202,7 +199,7 @@ class SeaSpec(SpecTable):
         super().__post_init__()
 
     def _check(self) -> None:
-        if self.kind == "pierson_moskowitz" and isinstance(self.gamma, _DIST_TYPES):
+        if self.kind == "pierson_moskowitz" and isinstance(self.gamma, DIST_TYPES):
             raise ParameterError(
                 "gamma", distribution_to_data(self.gamma), "must be absent (or 1) for kind 'pierson_moskowitz'"
             )

@@ -31,7 +31,7 @@ from ..craft.manoeuvres import HARD_OVER_DEG
 from .actuation import POWER_EFFICIENCY, THRUSTER_BOLLARD_KT, Actuation
 from .blocks import LosGuide, NomotoPidPilot
 
-__all__ = ["CompiledStack", "TickState", "compiled_tick"]
+__all__ = ["CompiledStack", "TickState", "compiled_tick", "control_one", "wrap_scalar"]
 
 FloatArray = NDArray[np.float64]
 
@@ -142,7 +142,8 @@ _jit = numba.njit(cache=True, error_model="numpy", inline="always")
 
 
 @_jit
-def _wrap(a: float) -> float:
+def wrap_scalar(a: float) -> float:
+    """An angle wrapped to [-pi, pi) [rad], as :func:`wavebench.core.frames.wrap_pi` (compiled, scalar)."""
     out = np.mod(a + np.pi, _TWO_PI) - np.pi
     if out >= np.pi:
         out -= _TWO_PI
@@ -229,16 +230,16 @@ def control_one(i, north, east, psi, u, v, r, cn, ce, wp, count, los, legs, pil,
     e = -dx * np.sin(pi_p) + dy * np.cos(pi_p)
     s_along = dx * np.cos(pi_p) + dy * np.sin(pi_p)
     eff = e + sigma * e_int[i]
-    chi_d = _wrap(pi_p - np.arctan(eff / delta))
+    chi_d = wrap_scalar(pi_p - np.arctan(eff / delta))
     if sigma > 0.0:
         e_int[i] += dt * (delta * e / (eff * eff + delta * delta))
-    psi_g = _wrap(chi_d - np.arctan2(v, u))
+    psi_g = wrap_scalar(chi_d - np.arctan2(v, u))
     u_d = legs[i, k]
     # --- pilot: reference model, heading PID, speed PI
     if pil[12] > 0.5:
         wn, zeta, rmax, amax = pil[13], pil[14], pil[15], pil[16]
         xf, pd, rd = ref[i, 0], ref[i, 1], ref[i, 2]
-        target = xf + _wrap(psi_g - xf)
+        target = xf + wrap_scalar(psi_g - xf)
         a1, b1, c1 = _ref_deriv(wn, zeta, rmax, amax, xf, pd, rd, target)
         a2, b2, c2 = _ref_deriv(wn, zeta, rmax, amax, xf + 0.5 * dt * a1, pd + 0.5 * dt * b1, rd + 0.5 * dt * c1,
                                 target)  # fmt: skip
@@ -253,7 +254,7 @@ def control_one(i, north, east, psi, u, v, r, cn, ce, wp, count, los, legs, pil,
         psi_d = pd
     else:
         psi_d, rd, ad = psi_g, 0.0, 0.0
-    eh = _wrap(psi - psi_d)
+    eh = wrap_scalar(psi - psi_d)
     ff = (pil[11] * ad + rd) / pil[10]
     pid[i, 0], rudder = _pid(pil[0], pil[1], pil[2], pil[3], pil[4], pid[i, 0], eh, r - rd, dt, ff)
     x_ff = -(pil[17] * u_d + pil[18] * abs(u_d) * u_d)

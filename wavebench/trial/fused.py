@@ -40,6 +40,7 @@ from .compiled import (
     OUT_XTE,
     CompiledStack,
     control_one,
+    wrap_scalar,
 )
 from .recorder import SIGNALS, Recorder
 from .setup import TrialSetup
@@ -71,14 +72,6 @@ def _depth(gn, ge, grid, fill, n, e):
     low = (1.0 - we) * grid[i0, j0] + we * grid[i0, j0 + 1]
     high = (1.0 - we) * grid[i0 + 1, j0] + we * grid[i0 + 1, j0 + 1]
     return (1.0 - wn) * low + wn * high
-
-
-@numba.njit(cache=True, error_model="numpy")
-def _wrap(a):
-    out = np.mod(a + np.pi, 2.0 * np.pi) - np.pi
-    if out >= np.pi:
-        out -= 2.0 * np.pi
-    return out
 
 
 @numba.njit(parallel=True, cache=True, error_model="numpy")
@@ -151,7 +144,7 @@ def _run_block(
             xte_abs[i, tick] = abs(xte)
             count_s[i] += 1.0
             sum_xte2[i] += xte * xte
-            he = _wrap(psi - hd)
+            he = wrap_scalar(psi - hd)
             sum_head2[i] += he * he
             se = u - ud
             sum_speed2[i] += se * se

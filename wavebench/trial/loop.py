@@ -228,7 +228,6 @@ def run_batch(
             act_state = new_act
             tau = act.tau(mid_act, nu_r)
             power = act.power_w(mid_act, nu_r)
-        active = acc.active
         acc.complete(gout.done, t)
         active = acc.active
         if setup.abort_cross_track_m is not None:
