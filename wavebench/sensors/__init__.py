@@ -15,7 +15,7 @@ from .heading import (
     gyrocompass_error_bound_deg,
     gyrocompass_heading,
 )
-from .imu import IMU_GRADES, ImuGrade, ImuMeasurement, imu_grade, imu_measure
+from .imu import IMU_GRADES, ImuGrade, ImuMeasurement, imu_errors, imu_grade, imu_measure
 from .noise import (
     SensorTiming,
     delay,
@@ -74,6 +74,7 @@ __all__ = [
     "gyrocompass_error_bound_deg",
     "gyrocompass_heading",
     "imu_grade",
+    "imu_errors",
     "imu_measure",
     "latency_steps",
     "mackenzie_sound_speed",

@@ -110,6 +110,7 @@ __all__ = [
     "IMU_GRADES",
     "ImuGrade",
     "ImuMeasurement",
+    "imu_errors",
     "imu_grade",
     "imu_measure",
 ]
@@ -474,3 +475,71 @@ def imu_measure(
         gyro_scale_factor=gyro_sf,
         accel_scale_factor=accel_sf,
     )
+
+
+def imu_errors(
+    streams: TrialStreams, grade: ImuGrade, n_samples: int, dt_s: float, *, purpose: str = "imu",
+    gyro_axes: int = 1, accel_axes: int = 2,
+) -> ImuMeasurement:  # fmt: skip
+    """The IMU's additive errors for a whole run, without the true signal.
+
+    :func:`imu_measure` with zero true rate and specific force: ``gyro_rad_s``
+    and ``accel_mps2`` are then bias plus white noise (the scale factors are
+    returned apart, to multiply the truth when it is known later, e.g. inside
+    a compiled run). The draws are the same streams as :func:`imu_measure`'s
+    for the same ``purpose`` and axes.
+
+    Parameters
+    ----------
+    streams : TrialStreams
+    grade : ImuGrade
+    n_samples : int
+        Samples in the run, >= 1.
+    dt_s : float
+        Sample interval [s], > 0.
+    purpose : str
+    gyro_axes, accel_axes : int
+        Axes drawn for each triad (1 and 2 for the horizontal plane: yaw rate, surge and sway force).
+
+    Returns
+    -------
+    ImuMeasurement
+        Errors of shape (n_trials, n_samples, axes) and scale factors (n_trials, axes).
+
+    Examples
+    --------
+    >>> s = TrialStreams(seed=5, trials=2)
+    >>> e = imu_errors(s, imu_grade("tactical"), 50, 0.1)
+    >>> e.gyro_rad_s.shape, e.accel_mps2.shape
+    ((2, 50, 1), (2, 50, 2))
+    """
+    if not isinstance(grade, ImuGrade):
+        raise ParameterError("grade", grade, "must be an ImuGrade (see imu_grade())")
+    dt = _check_dt(dt_s)
+    n = streams.n_trials
+    zero_g = np.zeros((n, int(n_samples), gyro_axes))
+    zero_a = np.zeros((n, int(n_samples), accel_axes))
+
+    def arr(value: Any, factor: float) -> Any:
+        return np.asarray(value, dtype=float) * factor
+
+    gyro, gyro_bias, gyro_sf = _triad(
+        streams, f"{purpose}.gyro", zero_g, dt,
+        white_density=arr(grade.gyro_arw_deg_per_sqrt_h, _DEG_PER_SQRT_H),
+        bias_gm_sigma=arr(grade.gyro_bias_instability_deg_per_h, DEG_PER_H * GM_SIGMA_PER_BIAS_INSTABILITY),
+        bias_tc_s=grade.gyro_bias_corr_time_s,
+        bias_rw_density=arr(grade.gyro_rrw_deg_per_h_per_sqrt_h, DEG_PER_H / 60.0),
+        turn_on_sd=arr(grade.gyro_turn_on_bias_sd_deg_per_h, DEG_PER_H),
+        scale_sd=arr(grade.gyro_scale_factor_sd_ppm, 1e-6),
+    )  # fmt: skip
+    accel, accel_bias, accel_sf = _triad(
+        streams, f"{purpose}.accel", zero_a, dt,
+        white_density=arr(grade.accel_vrw_mps_per_sqrt_h, _MPS_PER_SQRT_H),
+        bias_gm_sigma=arr(grade.accel_bias_instability_mps2, GM_SIGMA_PER_BIAS_INSTABILITY),
+        bias_tc_s=grade.accel_bias_corr_time_s,
+        bias_rw_density=arr(grade.accel_bias_rw_mps2_per_sqrt_h, 1.0 / 60.0),
+        turn_on_sd=arr(grade.accel_turn_on_bias_sd_mps2, 1.0),
+        scale_sd=arr(grade.accel_scale_factor_sd_ppm, 1e-6),
+    )  # fmt: skip
+    return ImuMeasurement(gyro_rad_s=gyro, accel_mps2=accel, gyro_bias_rad_s=gyro_bias,
+                          accel_bias_mps2=accel_bias, gyro_scale_factor=gyro_sf, accel_scale_factor=accel_sf)  # fmt: skip

@@ -21,6 +21,7 @@ from ..craft.hull import HullParams
 from ..guidance.survey import SurveyParams, check_convex_polygon, survey_waypoints
 from ..sea.seabed import SyntheticBayParams
 from .fields import SpecTable, number, numbers, params, points, representative, table, text, texts
+from .sensors import NAVIGATORS
 
 __all__ = [
     "EXECUTORS",
@@ -32,6 +33,7 @@ __all__ = [
     "RequirementSpec",
     "SeabedSpec",
     "StackSpec",
+    "TerrainSpec",
 ]
 
 _POS = Bounds(gt=0.0)
@@ -39,6 +41,7 @@ _POS = Bounds(gt=0.0)
 SIGNAL_NAMES = (
     "north_m", "east_m", "heading_deg", "surge_mps", "sway_mps", "yaw_rate_dps",
     "xte_m", "heading_cmd_deg", "speed_cmd_mps", "power_w",
+    "nav_north_m", "nav_east_m", "nav_err_m", "nees", "nis", "fix_ok",
 )  # fmt: skip
 _ANGLE = Bounds(ge=-360.0, le=360.0)
 _ANY = Bounds()
@@ -143,6 +146,13 @@ class MissionSpec(SpecTable):
     cross-track error exceeds ``abort_cross_track_m`` is failed ("left the
     corridor"). The on-line cross-track metrics count a line once the craft
     is ``line_run_in_m`` along it (default two lookahead distances).
+
+    ``running_depth_m`` (>= 0, default 0 for a surface craft; a distribution
+    allowed) is the depth below the surface [m] the craft runs at. The craft
+    is a horizontal-plane model: this depth is held exactly (no heave,
+    pitch or depth control), and it places the depth sensor's, the DVL's
+    and the altimeter's readings. Above a flat seabed it must be less than
+    the seabed's ``depth_m``.
     """
 
     kind: str = text(choices=("waypoints", "survey"), doc="mission kind")
@@ -157,6 +167,7 @@ class MissionSpec(SpecTable):
     start_heading_deg: Any = number(None, bounds=_ANGLE, unit="deg", doc="start heading", dist=True)
     abort_cross_track_m: float | None = number(None, bounds=_POS, unit="m", doc="corridor half-width")
     line_run_in_m: float | None = number(None, bounds=Bounds(ge=0.0), unit="m", doc="run-in before on-line metrics")
+    running_depth_m: Any = number(0.0, bounds=Bounds(ge=0.0), unit="m", doc="depth held below the surface", dist=True)
 
     def _check(self) -> None:
         if self.kind == "waypoints":
@@ -243,24 +254,58 @@ class PilotSpec(SpecTable):
 
 
 @dataclass(frozen=True, kw_only=True)
+class TerrainSpec(SpecTable):
+    """``[stack.terrain]``: the particle filter of the terrain-aided navigator.
+
+    Only with ``navigator = "terrain"`` (defaults when the table is absent).
+    ``particles`` particles start as a normal cloud of standard deviation
+    ``initial_sd_m`` (per horizontal axis) around the start position; each
+    particle takes a random-walk step of standard deviation
+    ``process_sd_m_per_sqrt_s * sqrt(dt)`` per axis at every prediction of
+    ``dt`` seconds; the cloud is resampled (systematic resampling) when the
+    effective sample size ``1 / sum(w_i^2)`` falls below ``resample_below``
+    times the number of particles.
+    """
+
+    particles: int = number(500, bounds=Bounds(ge=50, le=100_000, integer=True), doc="number of particles")
+    initial_sd_m: float = number(20.0, bounds=_POS, unit="m", doc="sd of the initial cloud around the start")
+    process_sd_m_per_sqrt_s: float = number(0.5, bounds=Bounds(ge=0.0), unit="m/sqrt(s)",
+                                            doc="random-walk spread added to each particle")  # fmt: skip
+    resample_below: float = number(0.5, bounds=Bounds(gt=0.0, le=1.0),
+                                   doc="effective-sample-size fraction that triggers resampling")  # fmt: skip
+
+
+@dataclass(frozen=True, kw_only=True)
 class StackSpec(SpecTable):
     """``[stack]``: which block fills each role.
 
-    ``navigator = "truth"`` (the true state) or ``"ekf"`` (an extended
-    Kalman filter on the spec's GNSS and compass, :mod:`wavebench.trial.navigator`),
+    ``navigator`` is one of :data:`~wavebench.spec.sensors.NAVIGATORS`:
+    ``"truth"`` (the true state), ``"ekf"`` (an extended Kalman filter with
+    IMU-driven prediction and heading, GNSS or acoustic-range fixes),
+    ``"dead_reckoning"`` (the same filter on IMU, heading and DVL, without
+    position fixes) or ``"terrain"`` (a particle filter matching the
+    altimeter and depth readings to the seabed, ``[stack.terrain]``); the
+    sensor kinds each needs are :data:`~wavebench.spec.sensors.NAVIGATOR_NEEDS`.
     ``[stack.guide]`` and ``[stack.pilot]`` (defaults if absent).
     """
 
-    navigator: str = text("truth", choices=("truth", "ekf"), doc="navigator")
+    navigator: str = text("truth", choices=NAVIGATORS, doc="navigator")
     guide: GuideSpec = table(GuideSpec, None)
     pilot: PilotSpec = table(PilotSpec, None)
+    terrain: TerrainSpec | None = table(TerrainSpec, None, doc="terrain-aided navigator's particle filter")
 
     def __post_init__(self) -> None:
         if self.guide is None:
             object.__setattr__(self, "guide", GuideSpec())
         if self.pilot is None:
             object.__setattr__(self, "pilot", PilotSpec())
+        if self.terrain is None and self.navigator == "terrain":
+            object.__setattr__(self, "terrain", TerrainSpec())
         super().__post_init__()
+
+    def _check(self) -> None:
+        if self.terrain is not None and self.navigator != "terrain":
+            raise ParameterError("terrain", "(given)", f'is only for navigator = "terrain", not "{self.navigator}"')
 
 
 @dataclass(frozen=True, kw_only=True)

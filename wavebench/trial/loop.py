@@ -261,7 +261,7 @@ def run_batch(
                 "north_m": eta[:, 0], "east_m": eta[:, 1], "heading_deg": np.degrees(eta[:, 2]),
                 "surge_mps": nu[:, 0], "sway_mps": nu[:, 1], "yaw_rate_dps": np.degrees(nu[:, 2]),
                 "xte_m": gout.cross_track_m, "heading_cmd_deg": np.degrees(gout.heading_d_rad),
-                "speed_cmd_mps": gout.speed_d_mps, "power_w": power,
+                "speed_cmd_mps": gout.speed_d_mps, "power_w": power, **_nav_record(navigator, eta),
             })  # fmt: skip
         prev = eta[:, :2].copy()
         eta, nu, psi_w = advance(env.plant, eta, nu, tick * k, dt, k, tau_ext=tau, current_ned=cur,
@@ -295,3 +295,15 @@ def run_batch(
         trials=np.asarray(env.trials.trials, dtype=np.int64), metrics=acc.finish(), record=rec,
         time_s=record_times(spec), steps_run=steps_run,
     )  # fmt: skip
+
+
+def _nav_record(navigator: EkfNavigator | None, eta: FloatArray) -> dict[str, FloatArray]:
+    """The navigator's recorded signals (NaN with truth navigation)."""
+    n = eta.shape[0]
+    if navigator is None:
+        nan = np.full(n, np.nan)
+        return {"nav_north_m": nan, "nav_east_m": nan, "nav_err_m": nan, "nees": nan, "nis": nan, "fix_ok": nan}
+    x = navigator.x
+    err = np.hypot(x[:, 0] - eta[:, 0], x[:, 1] - eta[:, 1])
+    nan = np.full(n, np.nan)
+    return {"nav_north_m": x[:, 0], "nav_east_m": x[:, 1], "nav_err_m": err, "nees": nan, "nis": nan, "fix_ok": nan}

@@ -14,7 +14,7 @@ from typing import Any
 import numpy as np
 from numpy.typing import NDArray
 
-__all__ = ["SIGNALS", "Recorder"]
+__all__ = ["NEES_DOF", "NIS_DOF", "SIGNALS", "Recorder"]
 
 #: Recorded signals: name -> (units, long name).
 SIGNALS: dict[str, tuple[str, str]] = {
@@ -28,7 +28,17 @@ SIGNALS: dict[str, tuple[str, str]] = {
     "heading_cmd_deg": ("deg", "desired heading from the guide"),
     "speed_cmd_mps": ("m/s", "desired surge speed from the guide"),
     "power_w": ("W", "propulsion shaft power"),
+    "nav_north_m": ("m", "navigator's estimate of the north position (NaN with truth navigation)"),
+    "nav_east_m": ("m", "navigator's estimate of the east position (NaN with truth navigation)"),
+    "nav_err_m": ("m", "horizontal navigation error, estimate minus truth (NaN with truth navigation)"),
+    "nees": ("1", "normalised estimation error squared of [north, east, heading, surge, sway] (5 dof)"),
+    "nis": ("1", "normalised innovation squared of the latest GNSS fix (2 dof; NaN before the first)"),
+    "fix_ok": ("1", "1 when the latest GNSS fix was accepted by the navigator, 0 when lost or rejected"),
 }
+
+#: Degrees of freedom of the recorded ``nees`` and ``nis`` signals.
+NEES_DOF = 5
+NIS_DOF = 2
 
 
 class Recorder:
