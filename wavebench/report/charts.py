@@ -32,6 +32,7 @@ _BG = "#fbfbf8"
 _GRID = "#e2e2dc"
 _FRAME = "#999"
 _MARKER = "#b3261e"
+_SHADE = "#5f5f5f"
 
 
 def _uid(*parts: object) -> str:
@@ -327,6 +328,8 @@ def band_chart(
     height: int = 300,
     xlim: tuple[float, float] | None = None,
     ylim: tuple[float, float] | None = None,
+    shade: Sequence[tuple[float, float]] = (),
+    shade_label: str = "",
 ) -> Svg:
     """Render filled bands (e.g. percentile ranges over time) with lines on top.
 
@@ -349,17 +352,26 @@ def band_chart(
         Size [px].
     xlim, ylim : (float, float), optional
         Axis ranges; from the data when omitted.
+    shade : sequence of (float, float)
+        Intervals of x shaded grey behind the bands (e.g. scheduled sensor
+        outages), clipped to the x range; intervals outside it are skipped.
+    shade_label : str
+        Legend text of the shaded intervals ("" for none).
 
     Returns
     -------
     Svg
         An ``<svg>`` element; each band is drawn as ``<path class="band">``
-        (low edge forward, then high edge backward, per gap-free run).
+        (low edge forward, then high edge backward, per gap-free run); each
+        shaded interval as ``<rect class="shade">`` with its interval in
+        ``data-x0`` and ``data-x1`` (exact ``repr`` of the floats).
 
     Examples
     --------
     >>> svg = band_chart([0, 1, 2], [([0, 1, 0], [2, 3, 2], "range")], [Series([0, 1, 2], [1, 2, 1], "mid")])
     >>> svg.count('class="band"')
+    1
+    >>> band_chart([0, 1, 2], [], [Series([0, 1, 2], [1, 2, 1], "mid")], shade=[(0.5, 1.5)]).count('class="shade"')
     1
     """
     _check_size(width, height)
@@ -391,8 +403,20 @@ def band_chart(
     xl = xlim if xlim else span([xv, *lxs])
     yl = ylim if ylim else span([a for b in parsed for a in b[:2]] + lys)
 
+    spans = []
+    for k, sp in enumerate(shade):
+        try:
+            a, b = float(sp[0]), float(sp[1])
+        except (TypeError, ValueError, IndexError) as exc:
+            raise ParameterError(f"shade[{k}]", sp, "a pair (x0, x1) of numbers") from exc
+        if not (math.isfinite(a) and math.isfinite(b) and a <= b):
+            raise ParameterError(f"shade[{k}]", sp, "a pair (x0, x1) of finite numbers with x0 <= x1")
+        spans.append((a, b))
+
     legend: list[tuple[str, str, str]] = []  # (kind, label, colour)
     fill_default = color or PALETTE[0]
+    if spans and shade_label:
+        legend.append(("shade", shade_label, _SHADE))
     for _low, _high, label, c in parsed:
         if label:
             legend.append(("band", label, c or fill_default))
@@ -406,6 +430,15 @@ def band_chart(
     ax.grid(out, xlabel, ylabel)
     clip = _uid(title, xv, *[b[0] for b in parsed], *lys)
     out.append(f'<clipPath id="{clip}"><rect x="{ax.left}" y="{ax.top}" width="{ax.pw}" height="{ax.ph}"/></clipPath>')
+    for a, b in spans:
+        lo_x, hi_x = max(a, ax.x0), min(b, ax.x1)
+        if hi_x < lo_x:
+            continue
+        xa, xb = float(ax.px(lo_x)), float(ax.px(hi_x))
+        out.append(
+            f'<rect class="shade" x="{xa:.2f}" y="{ax.top}" width="{xb - xa:.2f}" height="{ax.ph}" '
+            f'fill="{_SHADE}" fill-opacity="0.18" stroke="none" data-x0="{a!r}" data-x1="{b!r}"/>'
+        )
     for low, high, label, c in parsed:
         ok = np.isfinite(xv) & np.isfinite(low) & np.isfinite(high)
         segs = []
@@ -431,7 +464,9 @@ def band_chart(
     Y = ax.top - 7
     n_band = 0
     for kind, label, c in legend:
-        if kind == "band":
+        if kind == "shade":
+            out.append(f'<rect x="{X:.1f}" y="{Y - 8}" width="16" height="10" fill="{c}" fill-opacity="0.18"/>')
+        elif kind == "band":
             # nested bands (widest first) overlap: band k shows k + 1 layers of opacity 0.2
             n_band += 1
             op = 1.0 - 0.8**n_band
