@@ -6,9 +6,10 @@ optionally ``timeseries.nc`` and ``verdicts.json``) and returns one HTML page
 with inline CSS and SVG: no script, no network resource. It shows the
 caution, a run summary, the requirement verdicts with their confidence
 intervals, how the trials ended and why some failed, histograms of the main
-metrics, cross-track-error percentile bands over time, a tracks plot and the
-ranges of the drawn parameters. :func:`write_campaign_report` writes it to
-``DIR/report.html``.
+metrics, cross-track-error percentile bands over time, a tracks plot, the
+navigation sections of :mod:`wavebench.report.navigation` when a navigator
+ran, and the ranges of the drawn parameters. :func:`write_campaign_report`
+writes it to ``DIR/report.html``.
 
 Every text taken from the store is HTML-escaped.
 """
@@ -31,6 +32,7 @@ from numpy.typing import ArrayLike
 from ..core.errors import ParameterError
 from .charts import band_chart, histogram_chart
 from .html import CAUTION
+from .navigation import NAV_METRICS, navigation_sections
 from .svg import PALETTE, Series, line_chart
 
 __all__ = ["campaign_report_html", "nan_percentiles", "write_campaign_report"]
@@ -441,6 +443,9 @@ def _figure(svg: str, caption: str = "") -> str:
 
 def _histograms_section(metrics: pd.DataFrame, verdicts: list[dict[str, Any]]) -> str:
     wanted = list(MAIN_METRICS)
+    for col, meaning, unit in NAV_METRICS:  # only when a navigator ran (NaN with truth navigation)
+        if col in metrics and np.isfinite(pd.to_numeric(metrics[col], errors="coerce").to_numpy(dtype=float)).any():
+            wanted.append((col, meaning, unit))
     known = {m for m, _, _ in wanted}
     for v in verdicts:
         m = str(v.get("metric", ""))
@@ -471,7 +476,10 @@ def _histograms_section(metrics: pd.DataFrame, verdicts: list[dict[str, Any]]) -
         n_nan = int(np.count_nonzero(~np.isfinite(vals)))
         cap = f"{_esc(meaning)}."
         if n_nan:
-            why = "failed trials and trials that did not complete" if col == "time_to_complete_s" else "failed trials"
+            why = {
+                "time_to_complete_s": "failed trials and trials that did not complete",
+                "nav_err_outage_end_m": "failed trials and trials without an outage window",
+            }.get(col, "failed trials")
             cap += f" {n_nan} value{'s' if n_nan != 1 else ''} missing (NaN: {why})."
         if marks:
             cap += " Dashed: requirement threshold."
@@ -657,8 +665,10 @@ def campaign_report_html(store_dir: str | os.PathLike[str]) -> str:
     )
     sections = [("summary", "Run summary"), ("verdicts", "Verdicts"), ("outcomes", "Outcomes"),
                 ("metrics", "Metrics")]  # fmt: skip
+    nav_sections = navigation_sections(ds, metrics, spec) if ds is not None else []
     if ds is not None:
         sections += [("xte", "Cross-track error"), ("tracks", "Tracks")]
+    sections += [(anchor, text) for anchor, text, _ in nav_sections]
     sections.append(("parameters", "Parameters"))
     nav = "<nav>" + "".join(f'<a href="#{a}">{_esc(b)}</a>' for a, b in sections) + "</nav>"
 
@@ -676,6 +686,7 @@ def campaign_report_html(store_dir: str | os.PathLike[str]) -> str:
     ]
     if ds is not None:
         body += [_xte_section(ds), _tracks_section(ds, metrics)]
+        body += [section for _, _, section in nav_sections]
     else:
         body.append(
             '<section id="timeseries"><h2>Time series</h2><p>timeseries.nc is not in the store: '
