@@ -29,8 +29,12 @@ A spec file (TOML) has ``spec_version = 1`` and these tables:
     Waypoints or a survey pattern, the speed schedule and the start
     (:class:`~wavebench.spec.tables.MissionSpec`).
 ``[stack]`` (optional)
-    Navigator, ``[stack.guide]`` and ``[stack.pilot]``
-    (:class:`~wavebench.spec.tables.StackSpec`).
+    Navigator, ``[stack.guide]``, ``[stack.pilot]`` and, for the terrain
+    navigator, ``[stack.terrain]`` (:class:`~wavebench.spec.tables.StackSpec`).
+``[sensors.<name>]`` (optional, any number, one per kind)
+    Kind, rate, latency, error model, outages and dropouts
+    (:class:`~wavebench.spec.sensors.SensorSpec`); the navigator's needs are
+    checked against them (:data:`~wavebench.spec.sensors.NAVIGATOR_NEEDS`).
 ``[requirements.<name>]`` (optional, any number)
     A metric threshold and the probability of meeting it
     (:class:`~wavebench.spec.tables.RequirementSpec`).
@@ -39,8 +43,9 @@ A spec file (TOML) has ``spec_version = 1`` and these tables:
     ``record_interval_s``.
 
 Numeric fields marked distributable (the per-trial fields of sea, current,
-wind, the mission's speed and start, the guide's lookahead and gain) may
-hold a distribution (:mod:`wavebench.spec.distributions`). The bounds of
+wind, the mission's speed, start and running depth, the guide's lookahead
+and gain) may hold a distribution (:mod:`wavebench.spec.distributions`);
+sensor error models and filter settings are single numbers. The bounds of
 every numeric field are those of the target parameter class's ``bounded``
 metadata, so the spec and the block agree; a distribution whose support
 breaks the bound is rejected.
@@ -284,14 +289,44 @@ class Spec(SpecTable):
                 raise ParameterError(path, value, f"must be a whole number (>= 1) of time steps dt_s = {dt!r}")
             if value > self.scenario.duration_s:
                 raise ParameterError(path, value, f"must be at most duration_s = {self.scenario.duration_s!r}")
-        period = self.control_steps * dt
+        self._check_sensors()
+        self._check_running_depth()
+
+    def _check_sensors(self) -> None:
+        """One sensor per kind; rate and latency in whole control periods; the navigator's needs."""
+        period = self.control_steps * self.scenario.dt_s
+        first_of_kind: dict[str, str] = {}
         for name, sensor in self.sensors:
+            if sensor.kind in first_of_kind:
+                raise ParameterError(f"sensors.{name}.kind", sensor.kind,
+                                     f"one sensor per kind in this version: sensors '{first_of_kind[sensor.kind]}' "
+                                     f"and '{name}' are both of kind '{sensor.kind}'")  # fmt: skip
+            first_of_kind[sensor.kind] = name
             k = 1.0 / (sensor.rate_hz * period)
             if abs(k - round(k)) > 1e-9 * max(k, 1.0) or round(k) < 1:
                 raise ParameterError(f"sensors.{name}.rate_hz", sensor.rate_hz,
                                      f"must give a period that is a whole number (>= 1) of control periods "
                                      f"({period!r} s)")  # fmt: skip
+            k = sensor.latency_s / period
+            if abs(k - round(k)) > 1e-9 * max(k, 1.0):
+                raise ParameterError(f"sensors.{name}.latency_s", sensor.latency_s,
+                                     f"must be a whole number (>= 0) of control periods ({period!r} s): "
+                                     f"0, {period!r}, {2 * period!r}, ...")  # fmt: skip
         check_navigator_needs(self.stack.navigator, self.sensors)
+        if self.stack.navigator == "terrain" and self.seabed is None:
+            raise ParameterError("stack.navigator", "terrain", "needs a [seabed] to match the altimeter readings to")
+
+    def _check_running_depth(self) -> None:
+        """The running depth stays above a flat seabed (over its whole support when distributed)."""
+        depth = self.mission.running_depth_m
+        if self.seabed is None or self.seabed.kind != "flat":
+            return
+        deepest = depth.support()[1] if isinstance(depth, DIST_TYPES) else depth
+        if deepest >= self.seabed.depth_m:
+            raise ParameterError(
+                "mission.running_depth_m", distribution_to_data(depth) if isinstance(depth, DIST_TYPES) else depth,
+                f"must stay less than the flat seabed's depth_m = {self.seabed.depth_m!r}",
+            )  # fmt: skip
 
     @property
     def control_steps(self) -> int:
