@@ -55,7 +55,13 @@ class MetricAccumulator:
         self.line_abs = np.full((n_trials, n_ticks), np.nan)
         self.line_count = np.zeros(n_trials)
         self.line_sum2 = np.zeros(n_trials)
-        self.nav_err: list[FloatArray] = []
+        self.nav_err_abs: FloatArray | None = None
+        self.nees_sum = np.zeros(n_trials)
+        self.nees_n = np.zeros(n_trials)
+        self.nis_sum = np.zeros(n_trials)
+        self.nis_n = np.zeros(n_trials)
+        self.outage_end = np.full(n_trials, np.nan)
+        self.outage_ticks = np.zeros(0, dtype=np.int64)
         self.count = np.zeros(n_trials)
         self.sum_xte2 = np.zeros(n_trials)
         self.sum_head2 = np.zeros(n_trials)
@@ -92,9 +98,19 @@ class MetricAccumulator:
         self.line_count += on_line
         self.line_sum2 += np.where(on_line, xte_m * xte_m, 0.0)
 
-    def sample_nav(self, active: NDArray[np.bool_], error_m: FloatArray) -> None:
-        """Add one control period's horizontal navigation error [m] (estimate minus truth) of the active trials."""
-        self.nav_err.append(np.where(active, error_m, np.nan))
+    def enable_nav(self, n_ticks: int, outage_ticks: NDArray[np.int64]) -> None:
+        """Keep navigation metrics; ``outage_ticks`` are the control periods that end a scheduled GNSS outage."""
+        self.nav_err_abs = np.full((self.n, n_ticks), np.nan)
+        self.outage_ticks = np.asarray(outage_ticks, dtype=np.int64)
+
+    def sample_nav(self, tick: int, active: NDArray[np.bool_], error_m: FloatArray, nees: FloatArray) -> None:
+        """Add control period ``tick``'s horizontal navigation error [m] and NEES of the active trials."""
+        self.nav_err_abs[active, tick] = error_m[active]
+        ok = active & np.isfinite(nees)
+        self.nees_sum += np.where(ok, nees, 0.0)
+        self.nees_n += ok
+        if np.any(self.outage_ticks == tick):
+            self.outage_end = np.where(active, np.fmax(self.outage_end, error_m), self.outage_end)
 
     def motion(self, active: NDArray[np.bool_], step_m: FloatArray, power_w: FloatArray) -> None:
         """Add one control period's distance [m] and energy for the ``active`` trials."""
@@ -142,8 +158,8 @@ class MetricAccumulator:
         nav_rms = np.full(self.n, np.nan)
         nav_p95 = np.full(self.n, np.nan)
         nav_max = np.full(self.n, np.nan)
-        if self.nav_err:
-            errs = np.stack(self.nav_err, axis=1)
+        if self.nav_err_abs is not None:
+            errs = self.nav_err_abs
             has_nav = np.any(np.isfinite(errs), axis=1)
             if np.any(has_nav):
                 e = errs[has_nav]
@@ -168,9 +184,9 @@ class MetricAccumulator:
             "nav_err_rms_m": nav_rms,
             "nav_err_p95_m": nav_p95,
             "nav_err_max_m": nav_max,
-            "nav_err_outage_end_m": np.full(self.n, np.nan),
-            "nees_mean": np.full(self.n, np.nan),
-            "nis_mean": np.full(self.n, np.nan),
+            "nav_err_outage_end_m": self.outage_end.copy(),
+            "nees_mean": np.where(self.nees_n > 0, self.nees_sum / np.maximum(self.nees_n, 1.0), np.nan),
+            "nis_mean": np.where(self.nis_n > 0, self.nis_sum / np.maximum(self.nis_n, 1.0), np.nan),
             "heading_err_rms_deg": np.degrees(rms(self.sum_head2)),
             "speed_err_rms_mps": rms(self.sum_speed2),
             "distance_m": self.distance.copy(),
@@ -181,7 +197,8 @@ class MetricAccumulator:
             "failure_reason": self.reason.copy(),
         }
         for name in ("xte_rms_m", "xte_p95_m", "xte_max_m", "xte_line_rms_m", "xte_line_p95_m", "xte_line_max_m",
-                     "nav_err_rms_m", "nav_err_p95_m", "nav_err_max_m", "heading_err_rms_deg", "speed_err_rms_mps",
+                     "nav_err_rms_m", "nav_err_p95_m", "nav_err_max_m", "nav_err_outage_end_m", "nees_mean",
+                     "nis_mean", "heading_err_rms_deg", "speed_err_rms_mps",
                      "distance_m", "energy_kj", "min_depth_under_keel_m"):  # fmt: skip
             out[name] = np.where(self.failed, np.nan, out[name])
         return out

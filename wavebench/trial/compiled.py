@@ -31,7 +31,7 @@ from ..craft.manoeuvres import HARD_OVER_DEG
 from .actuation import POWER_EFFICIENCY, THRUSTER_BOLLARD_KT, Actuation
 from .blocks import LosGuide, NomotoPidPilot
 
-__all__ = ["CompiledStack", "TickState", "compiled_tick", "control_one", "wrap_scalar"]
+__all__ = ["OUT_XTE_TRUE", "CompiledStack", "TickState", "compiled_tick", "control_one", "wrap_scalar"]
 
 FloatArray = NDArray[np.float64]
 
@@ -42,7 +42,8 @@ OUT_TAU = 5  # 5, 6, 7
 OUT_POWER = 8
 OUT_SURGE_CMD, OUT_RUDDER_CMD = 9, 10
 OUT_ALONG = 11
-N_OUT = 12
+OUT_XTE_TRUE = 12
+N_OUT = 13
 
 
 @dataclass
@@ -203,9 +204,14 @@ def _disc_power(t, v_a, area, rho):
 
 
 @numba.njit(cache=True, error_model="numpy")
-def control_one(i, north, east, psi, u, v, r, cn, ce, wp, count, los, legs, pil, ap, layout, dt, leg, e_int, done, pid,
-                ref, act, out):  # fmt: skip
-    """One trial's control period (row ``i`` of the state arrays and of ``out``); see :func:`compiled_tick`."""
+def control_one(i, north, east, psi, u, v, r, n_t, e_t, psi_t, u_t, cn, ce, wp, count, los, legs, pil, ap, layout, dt,
+                leg, e_int, done, pid, ref, act, out):  # fmt: skip
+    """One trial's control period (row ``i`` of the state arrays and of ``out``); see :func:`compiled_tick`.
+
+    ``north .. r`` is the navigation solution the guide and pilot see;
+    ``n_t, e_t, psi_t, u_t`` the true position, heading and surge, for the
+    actuators' inflow and the true cross-track error.
+    """
     # --- guide: circle of acceptance, then LOS / ILOS
     k = leg[i]
     delta, sigma, radius = los[i, 0], los[i, 1], los[i, 2]
@@ -260,8 +266,8 @@ def control_one(i, north, east, psi, u, v, r, cn, ce, wp, count, los, legs, pil,
     x_ff = -(pil[17] * u_d + pil[18] * abs(u_d) * u_d)
     pid[i, 1], force = _pid(pil[5], pil[6], pil[7], pil[8], pil[9], pid[i, 1], u - u_d, 0.0, dt, x_ff)
     # --- actuators: command, dynamics, mean force, power
-    cpsi, spsi = np.cos(psi), np.sin(psi)
-    u_r = u - (cpsi * cn + spsi * ce)
+    cpsi, spsi = np.cos(psi_t), np.sin(psi_t)
+    u_r = u_t - (cpsi * cn + spsi * ce)
     a0, a1_ = act[i, 0], act[i, 1]
     if layout == 0:
         yp, kfp, krp, nmp, rtp, tcp, arp = ap[0], ap[1], ap[2], ap[3], ap[4], ap[5], ap[6]
@@ -321,18 +327,22 @@ def control_one(i, north, east, psi, u, v, r, cn, ce, wp, count, los, legs, pil,
     out[i, OUT_POWER] = pw
     out[i, OUT_SURGE_CMD], out[i, OUT_RUDDER_CMD] = force, rudder
     out[i, OUT_ALONG] = s_along
+    out[i, OUT_XTE_TRUE] = -(n_t - x0) * np.sin(pi_p) + (e_t - y0) * np.cos(pi_p)
 
 
 @numba.njit(parallel=True, cache=True, error_model="numpy")
-def _tick(eta, nu, cur, wp, count, los, legs, pil, ap, layout, dt, leg, e_int, done, pid, ref, act, out):
+def _tick(nav_eta, nav_nu, eta, nu, cur, wp, count, los, legs, pil, ap, layout, dt, leg, e_int, done, pid, ref, act,
+          out):  # fmt: skip
     n = eta.shape[0]
     for i in numba.prange(n):
-        control_one(i, eta[i, 0], eta[i, 1], eta[i, 2], nu[i, 0], nu[i, 1], nu[i, 2], cur[i, 0], cur[i, 1], wp, count,
-                    los, legs, pil, ap, layout, dt, leg, e_int, done, pid, ref, act, out)  # fmt: skip
+        control_one(i, nav_eta[i, 0], nav_eta[i, 1], nav_eta[i, 2], nav_nu[i, 0], nav_nu[i, 1], nav_nu[i, 2],
+                    eta[i, 0], eta[i, 1], eta[i, 2], nu[i, 0], cur[i, 0], cur[i, 1], wp, count, los, legs, pil, ap,
+                    layout, dt, leg, e_int, done, pid, ref, act, out)  # fmt: skip
 
 
 def compiled_tick(stack: CompiledStack, state: TickState, eta: FloatArray, nu: FloatArray, current_ned: FloatArray,
-                  dt_s: float) -> FloatArray:  # fmt: skip
+                  dt_s: float, nav_eta: FloatArray | None = None,
+                  nav_nu: FloatArray | None = None) -> FloatArray:  # fmt: skip
     """One control period of the built-in stack for every trial; updates ``state`` in place.
 
     Parameters
@@ -345,18 +355,24 @@ def compiled_tick(stack: CompiledStack, state: TickState, eta: FloatArray, nu: F
         Current at the craft [m/s] (zeros for none).
     dt_s : float
         Control period [s].
+    nav_eta, nav_nu : ndarray of shape (n_trials, 3), optional
+        The navigation solution the guide and pilot see (the truth when absent).
 
     Returns
     -------
-    ndarray of shape (n_trials, 12)
+    ndarray of shape (n_trials, 13)
         Columns: desired heading [rad], desired speed [m/s], cross-track
         error [m], done (0/1), active leg, mean actuator force X, Y, N over
         the period, shaft power [W] at the period's mean actuator state,
-        surge-force demand [N], rudder demand [rad], along-track distance [m].
+        surge-force demand [N], rudder demand [rad], along-track distance [m],
+        true cross-track error [m] (the true position to the active leg).
     """
     n = eta.shape[0]
     out = np.empty((n, N_OUT))
-    _tick(np.ascontiguousarray(eta), np.ascontiguousarray(nu), np.ascontiguousarray(current_ned), stack.waypoints,
-          stack.count, stack.los, stack.legs, stack.pilot, stack.act_params, stack.layout, float(dt_s), state.leg,
+    nav_eta = eta if nav_eta is None else nav_eta
+    nav_nu = nu if nav_nu is None else nav_nu
+    _tick(np.ascontiguousarray(nav_eta), np.ascontiguousarray(nav_nu), np.ascontiguousarray(eta),
+          np.ascontiguousarray(nu), np.ascontiguousarray(current_ned), stack.waypoints, stack.count, stack.los,
+          stack.legs, stack.pilot, stack.act_params, stack.layout, float(dt_s), state.leg,
           state.e_int, state.done, state.pid, state.ref, state.act, out)  # fmt: skip
     return out

@@ -28,6 +28,7 @@ import numpy as np
 from ..analysis.metrics import MetricAccumulator
 from ..craft.kernel import advance_trial, weights_at
 from ..spec.schema import Spec
+from . import nav_kernel as nk
 from .compiled import (
     N_OUT,
     OUT_ALONG,
@@ -38,10 +39,12 @@ from .compiled import (
     OUT_SPEED_D,
     OUT_TAU,
     OUT_XTE,
+    OUT_XTE_TRUE,
     CompiledStack,
     control_one,
     wrap_scalar,
 )
+from .nav_kernel import depth_one, nav_predict_one, nav_update_one
 from .recorder import SIGNALS, Recorder
 from .setup import TrialSetup
 
@@ -60,20 +63,6 @@ FAILURE_TEXT = {
 BLOCK_TICKS = 200
 
 
-@numba.njit(cache=True, error_model="numpy")
-def _depth(gn, ge, grid, fill, n, e):
-    """Bilinear depth as :func:`wavebench.sea.seabed.depth_at` (searchsorted right, clipped cell)."""
-    if not (n >= gn[0] and n <= gn[-1] and e >= ge[0] and e <= ge[-1]):
-        return fill
-    i0 = min(max(np.searchsorted(gn, n, side="right") - 1, 0), gn.size - 2)
-    j0 = min(max(np.searchsorted(ge, e, side="right") - 1, 0), ge.size - 2)
-    wn = (n - gn[i0]) / (gn[i0 + 1] - gn[i0])
-    we = (e - ge[j0]) / (ge[j0 + 1] - ge[j0])
-    low = (1.0 - we) * grid[i0, j0] + we * grid[i0, j0 + 1]
-    high = (1.0 - we) * grid[i0 + 1, j0] + we * grid[i0 + 1, j0 + 1]
-    return (1.0 - wn) * low + wn * high
-
-
 @numba.njit(parallel=True, cache=True, error_model="numpy")
 def _run_block(
     tick0, tick1, period, dt, k, rec_every,
@@ -84,7 +73,9 @@ def _run_block(
     bed_on, gn, ge, grid, fill, draft,
     abort_on, abort_m, line_legs, run_in, run_speed, run_rate,
     count_s, sum_xte2, sum_head2, sum_speed2, distance, energy, min_dukc, done_time, fail_code, fail_time, grounded,
-    xte_abs, line_abs, line_count, line_sum2, rec,
+    xte_abs, line_abs, line_count, line_sum2, rec, run_depth,
+    nav_on, cfg, par, beacons, gnss_noise, gnss_valid, head_noise, head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid,
+    ngn, nge, ngrid, nfill, imu_err, nx, nP, hist, diag, nav_err_abs, nees_sum, nees_n, outage_end, outage_ticks,
 ):  # fmt: skip
     n = eta.shape[0]
     no_pilot = np.zeros(7)
@@ -95,6 +86,7 @@ def _run_block(
         x, y, psi = eta[i, 0], eta[i, 1], eta[i, 2]
         u, v, r = nu[i, 0], nu[i, 1], nu[i, 2]
         p_w = pw[i]
+        work = np.empty(nk.WORK)
         w = wbuf[i, :6]
         cb = wbuf[i, 6]
         sb = wbuf[i, 7]
@@ -119,9 +111,15 @@ def _run_block(
                     ang = ang + dv1
                 cn = 0.0 + sp * np.cos(ang)
                 ce = 0.0 + sp * np.sin(ang)
-            control_one(i, x, y, psi, u, v, r, cn, ce, wp, count, los, legs, pil, ap, layout, period, leg, e_int,
-                        done, pid, ref, act, out)  # fmt: skip
-            xte = out[i, OUT_XTE]
+            en, ee, epsi, eu, ev, er = x, y, psi, u, v, r
+            if nav_on:
+                nav_update_one(i, tick, x, y, psi, u, v, r, nx, nP, hist, diag, cfg, par, beacons, gnss_noise,
+                               gnss_valid, head_noise, head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid, ngn, nge,
+                               ngrid, nfill, work)  # fmt: skip
+                en, ee, epsi, eu, ev, er = nx[i, 0], nx[i, 1], nx[i, 2], nx[i, 3], nx[i, 4], diag[i, nk.D_RATE]
+            control_one(i, en, ee, epsi, eu, ev, er, x, y, psi, u, cn, ce, wp, count, los, legs, pil, ap, layout,
+                        period, leg, e_int, done, pid, ref, act, out)  # fmt: skip
+            xte = out[i, OUT_XTE_TRUE] if nav_on else out[i, OUT_XTE]
             if out[i, OUT_DONE] > 0.5:
                 done_time[i] = t
                 alive[i] = False
@@ -131,7 +129,7 @@ def _run_block(
                 alive[i] = False
                 break
             if bed_on:
-                dukc = _depth(gn, ge, grid, fill, x, y) + 0.0 - draft - 0.0
+                dukc = depth_one(gn, ge, grid, fill, x, y) + 0.0 - draft - run_depth[i]
                 if np.isfinite(dukc):
                     min_dukc[i] = min(min_dukc[i], dukc)
                 if dukc < 0.0:
@@ -153,6 +151,16 @@ def _run_block(
                 line_abs[i, tick] = abs(xte)
                 line_count[i] += 1.0
                 line_sum2[i] += xte * xte
+            if nav_on:
+                err = np.hypot(en - x, ee - y)
+                nav_err_abs[i, tick] = err
+                nees = diag[i, nk.D_NEES]
+                if np.isfinite(nees):
+                    nees_sum[i] += nees
+                    nees_n[i] += 1.0
+                for ot in outage_ticks:
+                    if ot == tick and (np.isnan(outage_end[i]) or err > outage_end[i]):
+                        outage_end[i] = err
             tx, ty, tn = out[i, OUT_TAU], out[i, OUT_TAU + 1], out[i, OUT_TAU + 2]
             if wind_on:
                 speed = wind_tab[i, tick]
@@ -184,11 +192,21 @@ def _run_block(
                 rec[7, i, j] = np.degrees(hd)
                 rec[8, i, j] = ud
                 rec[9, i, j] = power
+                if nav_on:
+                    rec[10, i, j] = en
+                    rec[11, i, j] = ee
+                    rec[12, i, j] = np.hypot(en - x, ee - y)
+                    rec[13, i, j] = diag[i, nk.D_NEES]
+                    rec[14, i, j] = diag[i, nk.D_NIS]
+                    rec[15, i, j] = diag[i, nk.D_FIX_OK]
             px, py = x, y
+            pu, pv, ppsi = u, v, psi
             x, y, psi, u, v, r, p_w = advance_trial(
                 x, y, psi, u, v, r, p_w, hull[i], waves[i, 0], waves[i, 1], waves[i, 2], waves[i, 3], waves[i, 4],
                 waves[i, 5], w, cb, sb, roots, tx, ty, tn, cn, ce, no_pilot, False, tick * k, dt, k, tol, midpoint,
             )  # fmt: skip
+            if nav_on:
+                nav_predict_one(i, tick, period, pu, pv, ppsi, u, v, psi, nx, nP, diag, cfg, par, imu_err, work)
             distance[i] += np.hypot(x - px, y - py)
             energy[i] += power * period
             if not (np.isfinite(x) and np.isfinite(y) and np.isfinite(psi) and np.isfinite(u) and np.isfinite(v)
@@ -287,6 +305,24 @@ def run_fused(
     fail_code = np.zeros(n, dtype=np.int64)
     fail_time = np.zeros(n)
     line_legs = np.ascontiguousarray(setup.line_legs)
+    run_depth = np.zeros(n) if setup.running_depth_m is None else np.ascontiguousarray(setup.running_depth_m, float)
+    nav_on = setup.nav is not None
+    if nav_on:
+        from .loop import outage_end_ticks
+        from .navigator import NavRun
+
+        navrun = NavRun(setup.nav, nu)
+        acc.enable_nav(n_ticks, outage_end_ticks(setup.nav.fix_outages_s, period, n_ticks))
+        nav_args = (setup.nav.cfg, setup.nav.par, *setup.nav.arrays, setup.nav.imu_err, navrun.x, navrun.P,
+                    navrun.hist, navrun.diag, acc.nav_err_abs, acc.nees_sum, acc.nees_n, acc.outage_end,
+                    acc.outage_ticks)  # fmt: skip
+    else:  # placeholders of the same types, so the kernel compiles once
+        one, ok = np.zeros((1, 1)), np.ones((1, 1), dtype=bool)
+        nav_args = (np.ones(nk.N_CFG, dtype=np.int64), np.zeros((n, nk.N_PAR)), np.zeros((1, 3)), np.zeros((1, 1, 2)),
+                    ok, one, ok, np.zeros((1, 1, 2)), ok, np.zeros((1, 1, 1)), ok, np.zeros(2), np.zeros(2),
+                    np.zeros((2, 2)), np.nan, np.zeros((1, 1, 3)), np.zeros((1, nk.NX)), np.zeros((1, nk.NX, nk.NX)),
+                    np.zeros((1, 1, 6)), np.zeros((1, nk.N_DIAG)), one, np.zeros(1), np.zeros(1), np.zeros(1),
+                    np.zeros(0, dtype=np.int64))  # fmt: skip
     run_in = np.ascontiguousarray(setup.line_run_in_m, dtype=float)
     ticks_run = 0
     for tick0 in range(0, n_ticks, BLOCK_TICKS):
@@ -306,13 +342,16 @@ def run_fused(
             float(runaway_speed_mps), float(runaway_yaw_rate_rad_s),
             acc.count, acc.sum_xte2, acc.sum_head2, acc.sum_speed2, acc.distance, acc.energy_j, acc.min_dukc,
             acc.done_time, fail_code, fail_time, acc.grounded, acc.xte_abs, acc.line_abs, acc.line_count,
-            acc.line_sum2, rec_buf,
+            acc.line_sum2, rec_buf, run_depth, nav_on, *nav_args,
         )  # fmt: skip
         ticks_run = tick1
         if on_progress is not None:
             on_progress((tick1 - tick0) / n_ticks)
     if on_progress is not None and ticks_run < n_ticks:
         on_progress((n_ticks - ticks_run) / n_ticks)
+    if nav_on:
+        acc.nis_sum[:] = navrun.diag[:, nk.D_NIS_SUM]
+        acc.nis_n[:] = navrun.diag[:, nk.D_NIS_N]
     failed = fail_code > 0
     acc.failed[:] = failed
     for i in np.flatnonzero(failed):

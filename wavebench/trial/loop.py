@@ -24,6 +24,7 @@ kept, so this does not change any result.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
@@ -40,6 +41,7 @@ from ..sea.gust_table import wind_speed_table
 from ..sea.seabed import depth_under_keel
 from ..sea.wind import relative_wind, wind_loads
 from ..spec.schema import Spec
+from . import nav_kernel as nk
 from .blocks import BatchGuide, BatchPilot
 from .compiled import (
     OUT_ALONG,
@@ -50,11 +52,12 @@ from .compiled import (
     OUT_SPEED_D,
     OUT_TAU,
     OUT_XTE,
+    OUT_XTE_TRUE,
     CompiledStack,
     compiled_tick,
 )
 from .fused import run_fused
-from .navigator import EkfNavigator
+from .navigator import NavRun
 from .recorder import Recorder
 from .setup import TrialSetup, truth_nav
 from .signals import GuideOutput
@@ -153,7 +156,7 @@ def run_batch(
     -------
     BatchResult
     """
-    built_in = guide is None and pilot is None and setup.navigator == "truth"
+    built_in = guide is None and pilot is None
     guide = guide or setup.guide
     pilot = pilot or setup.pilot
     check_wiring(guide, pilot)
@@ -163,7 +166,7 @@ def run_batch(
         raise ParameterError("engine", engine, f"must be one of {list(ENGINES)}")
     if engine != "numpy" and not built_in:
         raise ParameterError(
-            "engine", engine, "the compiled engines run the spec's own guide and pilot with the truth navigator only"
+            "engine", engine, "the compiled engines run the spec's own guide and pilot only"
         )
     if engine == "fused":
         acc_f, rec_f, steps = run_fused(spec, setup, record=record, on_progress=on_progress,
@@ -185,7 +188,9 @@ def run_batch(
     psi_w = None
     workspace = env.plant.workspace()
     nav = truth_nav(0.0, eta, nu)
-    navigator = EkfNavigator(setup.sensors, eta, nu) if setup.navigator == "ekf" else None
+    navigator = NavRun(setup.nav, nu) if setup.nav is not None else None
+    if navigator is not None:
+        acc.enable_nav(n_ticks, outage_end_ticks(setup.nav.fix_outages_s, period, n_ticks))
     if compiled:
         stack = CompiledStack.pack(setup.guide, setup.pilot, act)
         tstate = stack.init_state(eta[:, 2], act_state)
@@ -194,6 +199,7 @@ def run_batch(
         g_state = guide.init(nav)
         p_state = pilot.init(nav)
     draft = float(np.max(env.craft.hull.draft_m))
+    run_depth = np.zeros(n) if setup.running_depth_m is None else setup.running_depth_m
     cur_model = env.current
     steps_run = 0
     zero_cur = np.zeros((n, 2))
@@ -206,19 +212,23 @@ def run_batch(
         cur = None
         if cur_model is not None:
             cur = current_velocity_ned(cur_model.model, cur_model.state, eta[:, 0], eta[:, 1], 0.0, t)
+        nav_eta = nav_nu = None
+        if navigator is not None:
+            navigator.update(tick, eta, nu, acc.active)
+            nav = navigator.nav_state(t)
+            nav_eta = np.stack([nav.north_m, nav.east_m, nav.heading_rad], axis=1)
+            nav_nu = np.stack([nav.surge_mps, nav.sway_mps, nav.yaw_rate_rad_s], axis=1)
         if compiled:
-            out = compiled_tick(stack, tstate, eta, nu, zero_cur if cur is None else cur, period)
+            out = compiled_tick(stack, tstate, eta, nu, zero_cur if cur is None else cur, period, nav_eta, nav_nu)
             gout = GuideOutput(heading_d_rad=out[:, OUT_HEADING_D], speed_d_mps=out[:, OUT_SPEED_D],
                                cross_track_m=out[:, OUT_XTE], along_track_m=out[:, OUT_ALONG],
                                leg=out[:, OUT_LEG].astype(np.int64),
                                done=out[:, OUT_DONE] > 0.5)  # fmt: skip
             tau = out[:, OUT_TAU : OUT_TAU + 3].copy()
             power = out[:, OUT_POWER].copy()
+            xte_true = out[:, OUT_XTE_TRUE] if navigator is not None else gout.cross_track_m
         else:
-            if navigator is not None:
-                navigator.update(tick, eta)
-                nav = navigator.nav_state(t)
-            else:
+            if navigator is None:
                 nav = truth_nav(t, eta, nu)
             g_state, gout = guide.step(g_state, nav, period)
             p_state, pout = pilot.step(p_state, nav, gout, period)
@@ -228,22 +238,24 @@ def run_batch(
             act_state = new_act
             tau = act.tau(mid_act, nu_r)
             power = act.power_w(mid_act, nu_r)
+            xte_true = gout.cross_track_m if navigator is None else true_cross_track(setup, gout.leg, eta)
         acc.complete(gout.done, t)
         active = acc.active
         if setup.abort_cross_track_m is not None:
-            acc.fail(np.abs(gout.cross_track_m) > setup.abort_cross_track_m,
+            acc.fail(np.abs(xte_true) > setup.abort_cross_track_m,
                      f"left the corridor at t = {t:.1f} s")  # fmt: skip
         if setup.seabed is not None:
-            dukc = depth_under_keel(setup.seabed, eta[:, 0], eta[:, 1], draft)
+            dukc = depth_under_keel(setup.seabed, eta[:, 0], eta[:, 1], draft) - run_depth
             acc.depth(active, dukc)
             acc.fail(dukc < 0.0, f"grounded at t = {t:.1f} s", grounded=True)
         active = acc.active
-        acc.sample(tick, active, gout.cross_track_m, eta[:, 2], gout.heading_d_rad, nu[:, 0], gout.speed_d_mps)
+        acc.sample(tick, active, xte_true, eta[:, 2], gout.heading_d_rad, nu[:, 0], gout.speed_d_mps)
         if navigator is not None:
-            acc.sample_nav(active, np.hypot(navigator.x[:, 0] - eta[:, 0], navigator.x[:, 1] - eta[:, 1]))
+            acc.sample_nav(tick, active, np.hypot(nav.north_m - eta[:, 0], nav.east_m - eta[:, 1]),
+                           navigator.diag[:, nk.D_NEES])  # fmt: skip
         leg = np.clip(gout.leg, 0, setup.line_legs.shape[1] - 1)
         on_line = active & setup.line_legs[rows, leg] & (gout.along_track_m >= setup.line_run_in_m)
-        acc.sample_line(tick, on_line, gout.cross_track_m)
+        acc.sample_line(tick, on_line, xte_true)
         if wind_tab is not None:
             v_rw, gamma = relative_wind(
                 nu[:, 0], nu[:, 1], eta[:, 2], wind_tab[:, tick], env.wind.state.direction_from_rad
@@ -260,15 +272,16 @@ def run_batch(
             rec.record(tick // rec_every, active, {
                 "north_m": eta[:, 0], "east_m": eta[:, 1], "heading_deg": np.degrees(eta[:, 2]),
                 "surge_mps": nu[:, 0], "sway_mps": nu[:, 1], "yaw_rate_dps": np.degrees(nu[:, 2]),
-                "xte_m": gout.cross_track_m, "heading_cmd_deg": np.degrees(gout.heading_d_rad),
+                "xte_m": xte_true, "heading_cmd_deg": np.degrees(gout.heading_d_rad),
                 "speed_cmd_mps": gout.speed_d_mps, "power_w": power, **_nav_record(navigator, eta),
             })  # fmt: skip
         prev = eta[:, :2].copy()
+        eta_prev, nu_prev = eta, nu
         eta, nu, psi_w = advance(env.plant, eta, nu, tick * k, dt, k, tau_ext=tau, current_ned=cur,
                                  drift_heading_rad=psi_w, workspace=workspace)  # fmt: skip
         steps_run += k
         if navigator is not None:
-            navigator.predict(period)
+            navigator.predict(tick, period, eta_prev, nu_prev, eta, nu, active)
         acc.motion(active, np.hypot(eta[:, 0] - prev[:, 0], eta[:, 1] - prev[:, 1]), power)
         bad = ~(np.all(np.isfinite(eta), axis=1) & np.all(np.isfinite(nu), axis=1))
         if np.any(bad):
@@ -291,19 +304,38 @@ def run_batch(
             break
     if on_progress is not None:
         on_progress((n_ticks - (tick + 1) // report_every * report_every) / n_ticks)
+    if navigator is not None:
+        acc.nis_sum[:] = navigator.diag[:, nk.D_NIS_SUM]
+        acc.nis_n[:] = navigator.diag[:, nk.D_NIS_N]
     return BatchResult(
         trials=np.asarray(env.trials.trials, dtype=np.int64), metrics=acc.finish(), record=rec,
         time_s=record_times(spec), steps_run=steps_run,
     )  # fmt: skip
 
 
-def _nav_record(navigator: EkfNavigator | None, eta: FloatArray) -> dict[str, FloatArray]:
+def _nav_record(navigator: NavRun | None, eta: FloatArray) -> dict[str, FloatArray]:
     """The navigator's recorded signals (NaN with truth navigation)."""
     n = eta.shape[0]
     if navigator is None:
         nan = np.full(n, np.nan)
         return {"nav_north_m": nan, "nav_east_m": nan, "nav_err_m": nan, "nees": nan, "nis": nan, "fix_ok": nan}
-    x = navigator.x
+    x, d = navigator.x, navigator.diag
     err = np.hypot(x[:, 0] - eta[:, 0], x[:, 1] - eta[:, 1])
-    nan = np.full(n, np.nan)
-    return {"nav_north_m": x[:, 0], "nav_east_m": x[:, 1], "nav_err_m": err, "nees": nan, "nis": nan, "fix_ok": nan}
+    return {"nav_north_m": x[:, 0], "nav_east_m": x[:, 1], "nav_err_m": err, "nees": d[:, nk.D_NEES],
+            "nis": d[:, nk.D_NIS], "fix_ok": d[:, nk.D_FIX_OK]}  # fmt: skip
+
+
+def outage_end_ticks(windows: tuple, period: float, n_ticks: int) -> NDArray[np.int64]:
+    """Control periods at which scheduled outage windows end (the first period at or after each end, within the run)."""
+    ticks = [math.ceil(end / period - 1e-9) for _, end in windows]
+    return np.asarray(sorted({t for t in ticks if 0 <= t < n_ticks}), dtype=np.int64)
+
+
+def true_cross_track(setup: TrialSetup, leg: NDArray[np.int64], eta: FloatArray) -> FloatArray:
+    """Cross-track error [m] of the true position to each trial's active leg (positive to starboard)."""
+    wp = setup.guide.path.waypoints
+    rows = np.arange(eta.shape[0])
+    k = np.clip(leg, 0, wp.shape[1] - 2)
+    p0, p1 = wp[rows, k], wp[rows, k + 1]
+    pi_p = np.arctan2(p1[:, 1] - p0[:, 1], p1[:, 0] - p0[:, 0])
+    return -(eta[:, 0] - p0[:, 0]) * np.sin(pi_p) + (eta[:, 1] - p0[:, 1]) * np.cos(pi_p)

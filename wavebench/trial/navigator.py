@@ -1,176 +1,302 @@
-"""The navigator role: sensors sampled from the true motion, and an EKF that fuses them.
+"""The navigator role: each trial's sensor errors drawn for the run, packed for the compiled filter.
 
-:class:`SensorSuite` turns the spec's ``[sensors.<name>]`` into each trial's
-measurements, sampled every whole number of control periods from the true
-state, with noise drawn per trial for the whole run (one stream purpose per
-sensor), scheduled outages and Markov dropouts.
+:func:`build_nav_pack` turns the spec's ``[sensors.<name>]`` and
+``stack.navigator`` into a :class:`NavPack`: the configuration, per-trial
+parameters and pre-drawn errors that
+:mod:`wavebench.trial.nav_kernel` reads while it samples the sensors from
+the truth and runs the filter. :class:`NavRun` holds a batch's filter state
+and steps it from the Python loop; the fused run steps the same state in
+its compiled kernel.
 
-:class:`EkfNavigator` is the ``navigator = "ekf"`` of the spec: an extended
-Kalman filter on the planar state ``x = [north, east, psi, u, v, r]`` with
-body velocities and yaw rate as random walks, fed by GNSS antenna positions
-(lever arm in the measurement model) and compass headings (angle residuals
-wrapped). It runs in the numpy engine; the guide and pilot see its estimate.
+Every error is drawn per trial under its own stream purpose
+(``sensor.<name>.noise``, ``sensor.<name>.dropout``, ``sensor.<name>.imu.*``,
+``sensor.<name>.settle``), so a trial's sensors are the same alone or in any
+batch. Samples are taken every whole number of control periods (the spec
+checks the rates); a sensor's validity combines its scheduled outage
+windows and its Markov dropouts.
 
-Model choices (ours, no source): process noise densities
-``q_uv = 0.3 m/s/sqrt(s)`` on surge and sway, ``q_r = 0.05 rad/s/sqrt(s)`` on
-yaw rate; the filter starts at the true initial state with standard
-deviations 5 m, 5 m, 5 deg, 0.5 m/s, 0.5 m/s, 0.1 rad/s. Measurements are
-not gated: with a gate, a filter that drifted (after an outage, or with too
-little process noise for the craft's turns) can reject every later fix and
-never recover. Without a speed sensor the velocity is carried only by its
-random walk, so position error grows quickly in a GNSS outage. The compass
-bias and deviation are not estimated: a biased compass shows as an
-inconsistent filter.
+Modelling choices (ours unless a source is named): the GNSS position error
+is white (1-sigma ``horizontal_sd_m`` per axis); the compass reading is the
+truth plus bias, deviation and white noise; the gyrocompass adds a constant
+settle-point error drawn uniformly within the IMO A.424(XI) limit at the
+scenario's latitude plus white scatter of the standard's RMS figure; the DVL
+noise is ``a + b |v|`` per axis times unit normals; acoustic ranges scale
+with the ratio of the true sound speed (Mackenzie 1981, at 10 degC, 35 ppt
+and the beacon's depth; our choice of water) to the receiver's assumed one.
+The filter starts at the true initial pose and velocity with the standard
+deviations of :data:`P0_SD`, its bias states at zero with the IMU grade's
+turn-on and in-run bias spread.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
 
-from ..core.frames import wrap_pi
+from ..core.errors import ParameterError
 from ..core.streams import TrialStreams
-from ..navigation.kalman import ekf_update, kf_predict
-from ..sensors.gnss import gnss_position_ned
-from ..sensors.heading import compass_heading
+from ..sea.seabed import SeabedGrid
+from ..sensors.imu import DEG_PER_H, GM_SIGMA_PER_BIAS_INSTABILITY, imu_errors
 from ..sensors.noise import markov_dropout_mask, outage_mask, white_sequence
+from ..sensors.ranging import mackenzie_sound_speed
 from ..spec.schema import Spec
+from . import nav_kernel as nk
 from .signals import NavState
 
-__all__ = ["EkfNavigator", "SensorSuite"]
+__all__ = ["NAVIGATING", "P0_SD", "NavPack", "NavRun", "build_nav_pack"]
 
 FloatArray = NDArray[np.float64]
 
-#: Process noise densities of the EKF: surge/sway [m/s/sqrt(s)], yaw rate [rad/s/sqrt(s)] (our choice).
-Q_UV = 0.3
-Q_R = 0.05
-#: Initial standard deviations of the EKF state (our choice).
-P0_SD = (5.0, 5.0, math.radians(5.0), 0.5, 0.5, 0.1)
-#: Innovation gate probability (None: no gating; see the module notes).
-GATE = None
+#: Navigators that estimate (every one but "truth").
+NAVIGATING = ("ekf", "dead_reckoning", "terrain")
+#: Initial standard deviations of the filter's pose and velocity: north, east [m], heading [rad], surge, sway [m/s].
+P0_SD = (2.0, 2.0, math.radians(2.0), 0.1, 0.1)
+#: Water for the true sound speed of acoustic ranges: temperature [degC], salinity [ppt] (our choice).
+WATER_T_C, WATER_S_PPT = 10.0, 35.0
+
+_MODE = {"ekf": nk.MODE_EKF, "dead_reckoning": nk.MODE_DR, "terrain": nk.MODE_TERRAIN}
+_HEAD_KINDS = ("compass", "gyrocompass")
 
 
 @dataclass(frozen=True)
-class _Sensor:
-    name: str
-    kind: str
-    every: int
-    noise: FloatArray
-    valid: NDArray[np.bool_]
-    model: object
+class NavPack:
+    """Configuration and pre-drawn errors of a batch's navigator (see the module notes).
+
+    Attributes
+    ----------
+    cfg : ndarray of int64, shape (N_CFG,)
+        Mode, which sensors are present, their sample spacing and latency in control periods.
+    par : ndarray of shape (n_trials, N_PAR)
+        Per-trial error figures and filter noise.
+    arrays : tuple of ndarray
+        Beacons, pre-drawn noise and validity per sensor, seabed grid, in the
+        order :func:`~wavebench.trial.nav_kernel.nav_update_one` takes them.
+    imu_err : ndarray of shape (n_trials, n_imu_samples, 3)
+        Gyro (yaw) and accelerometer (surge, sway) additive errors.
+    x0 : ndarray of shape (n_trials, 8)
+    p0 : ndarray of shape (n_trials, 8, 8)
+    fix_outages_s : tuple of (start_s, end_s)
+        The GNSS sensor's scheduled outage windows (for the outage-end metric).
+    mode : str
+    """
+
+    cfg: NDArray[np.int64]
+    par: FloatArray
+    arrays: tuple
+    imu_err: FloatArray
+    x0: FloatArray
+    p0: FloatArray
+    fix_outages_s: tuple
+    mode: str
 
 
-class SensorSuite:
-    """The spec's sensors for a batch: sampling schedule, pre-drawn noise and validity.
+def _drawn(model: Any, draws: dict[str, FloatArray], prefix: str) -> Any:
+    """The error model with its distributed fields replaced by the batch's draws."""
+    given = {f.name: draws[prefix + f.name] for f in dataclasses.fields(model) if prefix + f.name in draws}
+    return dataclasses.replace(model, **given) if given else model
+
+
+def _validity(trials: TrialStreams, name: str, s: object, n_samples: int, every_s: float) -> NDArray[np.bool_]:
+    times = np.arange(n_samples) * every_s
+    valid = np.broadcast_to(outage_mask(times, s.outages_s) if s.outages_s else True,
+                            (trials.n_trials, n_samples)).copy()  # fmt: skip
+    if s.p_drop > 0.0:
+        valid &= markov_dropout_mask(trials, f"sensor.{name}.dropout", n_samples, s.p_drop, s.p_recover)
+    return valid
+
+
+def build_nav_pack(spec: Spec, trials: TrialStreams, draws: dict[str, FloatArray], eta0: FloatArray,
+                   nu0: FloatArray, seabed: SeabedGrid | None) -> NavPack:  # fmt: skip
+    """Pack the spec's navigator and sensors for a batch (errors drawn per trial for the whole run).
 
     Parameters
     ----------
     spec : Spec
+        With ``stack.navigator`` one of :data:`NAVIGATING`.
     trials : TrialStreams
-        The batch's streams (noise purpose ``"sensor.<name>.noise"``,
-        dropouts ``"sensor.<name>.dropout"``).
+        The batch's streams.
+    draws : dict of str to ndarray of shape (n_trials,)
+        The batch's drawn spec fields by TOML path (sensor figures may be distributed).
+    eta0, nu0 : ndarray of shape (n_trials, 3)
+        True initial pose and body velocity (the filter's initial mean).
+    seabed : SeabedGrid or None
+        For the DVL's bottom lock and the altimeter.
+
+    Returns
+    -------
+    NavPack
     """
-
-    def __init__(self, spec: Spec, trials: TrialStreams) -> None:
-        k = spec.control_steps
-        period = k * spec.scenario.dt_s
-        n_ticks = spec.scenario.n_steps // k
-        self.sensors: list[_Sensor] = []
-        for name, s in spec.sensors:
-            every = round(1.0 / (s.rate_hz * period))
-            n_samples = -(-n_ticks // every)
-            times = np.arange(n_samples) * every * period
-            if s.kind == "gnss":
-                noise = white_sequence(trials, f"sensor.{name}.noise", n_samples, s.gnss.horizontal_sd_m, n_axes=2)
+    mode = spec.stack.navigator
+    n = trials.n_trials
+    k = spec.control_steps
+    period = k * spec.scenario.dt_s
+    n_ticks = spec.scenario.n_steps // k
+    cfg = np.zeros(nk.N_CFG, dtype=np.int64)
+    cfg[nk.C_MODE] = _MODE[mode]
+    cfg[nk.C_GATE] = 1
+    cfg[nk.C_BED] = 1 if seabed is not None else 0
+    par = np.zeros((n, nk.N_PAR))
+    par[:, nk.P_AC_SCALE] = 1.0
+    depth = draws.get("mission.running_depth_m", spec.mission.running_depth_m)
+    par[:, nk.P_RUN_DEPTH] = np.broadcast_to(np.asarray(depth, dtype=float), (n,))
+    one = np.zeros((n, 1))
+    one_b = np.ones((n, 1), dtype=bool)
+    gnss_noise, gnss_valid = np.zeros((n, 1, 2)), one_b
+    head_noise, head_valid = one, one_b
+    dvl_noise, dvl_valid = np.zeros((n, 1, 2)), one_b
+    ac_noise, ac_valid = np.zeros((n, 1, 1)), one_b
+    beacons = np.zeros((1, 3))
+    imu_err = np.zeros((n, 1, 3))
+    fix_outages: tuple = ()
+    max_lat = 0
+    sd0_bias = np.zeros((n, 3))
+    for name, s in spec.sensors:
+        every = round(1.0 / (s.rate_hz * period))
+        lat = round(s.latency_s / period)
+        max_lat = max(max_lat, lat)
+        n_samples = -(-n_ticks // every)
+        m = _drawn(s.model, draws, f"sensors.{name}.{s.kind}.")
+        purpose = f"sensor.{name}"
+        if s.kind == "imu":
+            cfg[nk.C_EV_IMU] = every
+            e = imu_errors(trials, m, n_samples, every * period, purpose=f"{purpose}.imu")
+            imu_err = np.concatenate([e.gyro_rad_s, e.accel_mps2], axis=2)
+            par[:, nk.P_GSF] = e.gyro_scale_factor[:, 0]
+            par[:, nk.P_ASF_X] = e.accel_scale_factor[:, 0]
+            par[:, nk.P_ASF_Y] = e.accel_scale_factor[:, 1]
+            arw = np.asarray(m.gyro_arw_deg_per_sqrt_h, dtype=float) * math.pi / 180.0 / 60.0
+            vrw = np.asarray(m.accel_vrw_mps_per_sqrt_h, dtype=float) / 60.0
+            par[:, nk.P_Q_GYRO] = arw**2
+            par[:, nk.P_Q_ACC] = vrw**2
+            for kind, phi_i, q_i, col, bi, tc, rrw, ton in (
+                ("gyro", nk.P_BG_PHI, nk.P_BG_Q, 0, np.asarray(m.gyro_bias_instability_deg_per_h) * DEG_PER_H,
+                 m.gyro_bias_corr_time_s, np.asarray(m.gyro_rrw_deg_per_h_per_sqrt_h) * DEG_PER_H / 60.0,
+                 np.asarray(m.gyro_turn_on_bias_sd_deg_per_h) * DEG_PER_H),
+                ("accel", nk.P_BA_PHI, nk.P_BA_Q, 1, np.asarray(m.accel_bias_instability_mps2, dtype=float),
+                 m.accel_bias_corr_time_s, np.asarray(m.accel_bias_rw_mps2_per_sqrt_h) / 60.0,
+                 np.asarray(m.accel_turn_on_bias_sd_mps2, dtype=float)),
+            ):  # fmt: skip
+                sig = bi * GM_SIGMA_PER_BIAS_INSTABILITY
+                tau = np.asarray(tc, dtype=float)
+                phi = np.where(np.isfinite(tau), np.exp(-period / np.where(np.isfinite(tau), tau, 1.0)), 1.0)
+                par[:, phi_i] = phi
+                par[:, q_i] = sig**2 * (1.0 - phi**2) + rrw**2 * period
+                spread = np.sqrt(ton**2 + sig**2)
+                sd0_bias[:, col] = spread
+                if kind == "accel":
+                    sd0_bias[:, 2] = spread
+        elif s.kind == "gnss":
+            cfg[nk.C_GNSS], cfg[nk.C_EV_GNSS], cfg[nk.C_LAT_GNSS] = 1, every, lat
+            sd = np.asarray(m.horizontal_sd_m, dtype=float)
+            gnss_noise = white_sequence(trials, f"{purpose}.noise", n_samples, sd, n_axes=2)
+            gnss_valid = _validity(trials, name, s, n_samples, every * period)
+            par[:, nk.P_GNSS_LX] = m.lever_x_m
+            par[:, nk.P_GNSS_LY] = m.lever_y_m
+            par[:, nk.P_GNSS_SD] = sd
+            fix_outages = tuple(s.outages_s)
+        elif s.kind in _HEAD_KINDS:
+            cfg[nk.C_HEAD], cfg[nk.C_EV_HEAD], cfg[nk.C_LAT_HEAD] = 1, every, lat
+            if s.kind == "compass":
+                sd = np.radians(np.asarray(m.noise_sd_deg, dtype=float))
+                par[:, nk.P_HEAD_BIAS] = np.radians(m.bias_deg)
+                dev_cols = (nk.P_DEV_A, nk.P_DEV_B, nk.P_DEV_C, nk.P_DEV_D, nk.P_DEV_E)
+                for col, key in zip(dev_cols, "abcde", strict=True):
+                    par[:, col] = np.radians(getattr(m, f"deviation_{key}_deg"))
             else:
-                noise = white_sequence(trials, f"sensor.{name}.noise", n_samples, math.radians(s.compass.noise_sd_deg))
-            valid = np.broadcast_to(outage_mask(times, s.outages_s) if s.outages_s else True,
-                                    (trials.n_trials, n_samples)).copy()  # fmt: skip
-            if s.p_drop > 0.0:
-                valid &= markov_dropout_mask(trials, f"sensor.{name}.dropout", n_samples, s.p_drop, s.p_recover)
-            self.sensors.append(_Sensor(name, s.kind, every, noise, valid, s.model))
+                cfg[nk.C_HEAD_GYRO] = 1
+                lat_deg = spec.scenario.origin.lat_deg
+                sd = np.asarray(m.noise_sd_rad(lat_deg), dtype=float)
+                limit = np.asarray(m.settle_error_limit_rad(lat_deg), dtype=float)
+                par[:, nk.P_HEAD_BIAS] = trials.draw(f"{purpose}.settle", lambda g: g.uniform(-1.0, 1.0)) * limit
+            head_noise = white_sequence(trials, f"{purpose}.noise", n_samples, sd)
+            head_valid = _validity(trials, name, s, n_samples, every * period)
+            par[:, nk.P_HEAD_SD] = sd
+        elif s.kind == "dvl":
+            cfg[nk.C_DVL], cfg[nk.C_EV_DVL], cfg[nk.C_LAT_DVL] = 1, every, lat
+            dvl_noise = white_sequence(trials, f"{purpose}.noise", n_samples, 1.0, n_axes=2)
+            dvl_valid = _validity(trials, name, s, n_samples, every * period)
+            par[:, nk.P_DVL_A], par[:, nk.P_DVL_B] = m.noise_floor_mps, m.noise_speed_fraction
+            par[:, nk.P_DVL_MIN], par[:, nk.P_DVL_MAX] = m.min_altitude_m, m.max_altitude_m
+            par[:, nk.P_DVL_LX], par[:, nk.P_DVL_LY] = m.lever_x_m, m.lever_y_m
+        elif s.kind == "altimeter":
+            cfg[nk.C_ALT], cfg[nk.C_EV_ALT], cfg[nk.C_LAT_ALT] = 1, every, lat
+            par[:, nk.P_ALT_SD], par[:, nk.P_ALT_MIN], par[:, nk.P_ALT_MAX] = m.noise_sd_m, m.min_range_m, m.max_range_m
+        elif s.kind == "depth":
+            cfg[nk.C_DEPTH], cfg[nk.C_EV_DEPTH], cfg[nk.C_LAT_DEPTH] = 1, every, lat
+            par[:, nk.P_DEPTH_SD] = np.asarray(m.noise_fs_fraction) * np.asarray(m.full_scale_m)
+        elif s.kind == "acoustic":
+            cfg[nk.C_AC], cfg[nk.C_EV_AC], cfg[nk.C_LAT_AC] = 1, every, lat
+            beacons = np.asarray(s.beacons_ned_m, dtype=float).reshape(-1, 3)
+            ac_noise = white_sequence(trials, f"{purpose}.noise", n_samples, 1.0, n_axes=beacons.shape[0])
+            ac_valid = _validity(trials, name, s, n_samples, every * period)
+            c_true = mackenzie_sound_speed(WATER_T_C, WATER_S_PPT, float(np.mean(beacons[:, 2])))
+            par[:, nk.P_AC_SD], par[:, nk.P_AC_MAX] = m.noise_sd_m, m.max_range_m
+            par[:, nk.P_AC_SCALE] = float(c_true) / np.asarray(m.assumed_sound_speed_mps, dtype=float)
+    for c_ev in (nk.C_EV_IMU, nk.C_EV_GNSS, nk.C_EV_HEAD, nk.C_EV_DVL, nk.C_EV_ALT, nk.C_EV_DEPTH, nk.C_EV_AC):
+        cfg[c_ev] = max(cfg[c_ev], 1)
+    cfg[nk.C_HIST] = max_lat + 1
+    if ac_noise.ndim == 2:
+        ac_noise = ac_noise[:, :, None]
+    if mode == "terrain" and seabed is None:
+        raise ParameterError("stack.navigator", mode, "needs a [seabed] to navigate against")
+    x0 = np.zeros((n, nk.NX))
+    x0[:, :3] = eta0
+    x0[:, 3:5] = nu0[:, :2]
+    sd0 = np.concatenate([np.broadcast_to(np.asarray(P0_SD), (n, 5)), np.maximum(sd0_bias, 1e-12)], axis=1)
+    p0 = np.zeros((n, nk.NX, nk.NX))
+    p0[:, np.arange(nk.NX), np.arange(nk.NX)] = sd0**2
+    if seabed is not None:
+        gn, ge, grid = (np.ascontiguousarray(a, dtype=float) for a in (seabed.north_m, seabed.east_m, seabed.depth_m))
+        fill = np.array(np.nan if seabed.fill_depth_m is None else float(seabed.fill_depth_m))
+    else:
+        gn, ge, grid, fill = np.zeros(2), np.zeros(2), np.zeros((2, 2)), np.array(np.nan)
+    arrays = tuple(np.ascontiguousarray(a) for a in (
+        beacons, gnss_noise, gnss_valid, head_noise, head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid,
+        gn, ge, grid))  # fmt: skip
+    return NavPack(cfg=cfg, par=par, arrays=(*arrays, float(fill)), imu_err=np.ascontiguousarray(imu_err),
+                   x0=x0, p0=p0, fix_outages_s=fix_outages, mode=mode)  # fmt: skip
 
-    def due(self, tick: int) -> list[tuple[_Sensor, int]]:
-        """Sensors that sample at control period ``tick``, with their sample index."""
-        return [(s, tick // s.every) for s in self.sensors if tick % s.every == 0]
 
-
-class EkfNavigator:
-    """Extended Kalman filter on GNSS and compass (see the module notes).
+class NavRun:
+    """A batch's filter state, stepped from the Python loop (the fused run steps the same arrays).
 
     Parameters
     ----------
-    suite : SensorSuite
-    eta0, nu0 : ndarray of shape (n_trials, 3)
-        True initial pose and body velocity (the filter's initial mean).
+    pack : NavPack
+    nu0 : ndarray of shape (n_trials, 3)
+        True initial body velocity (the yaw rate the pilot sees before the first IMU sample).
     """
 
-    needs = ("gnss", "compass")
+    def __init__(self, pack: NavPack, nu0: FloatArray) -> None:
+        self.pack = pack
+        n = pack.par.shape[0]
+        self.x = pack.x0.copy()
+        self.P = pack.p0.copy()
+        self.hist = np.zeros((n, int(pack.cfg[nk.C_HIST]), 6))
+        self.diag = np.zeros((n, nk.N_DIAG))
+        self.diag[:, nk.D_NIS] = np.nan
+        self.diag[:, nk.D_FIX_OK] = np.nan
+        self.diag[:, nk.D_NEES] = np.nan
+        self.diag[:, nk.D_RATE] = nu0[:, 2]
 
-    def __init__(self, suite: SensorSuite, eta0: FloatArray, nu0: FloatArray) -> None:
-        self.suite = suite
-        n = eta0.shape[0]
-        self.x = np.concatenate([eta0, nu0], axis=1).astype(float)
-        self.P = np.tile(np.diag(np.square(P0_SD)), (n, 1, 1))
+    def update(self, tick: int, eta: FloatArray, nu: FloatArray, active: NDArray[np.bool_]) -> None:
+        """Sample and fuse the sensors due at control period ``tick`` (truth ``eta``, ``nu``)."""
+        p = self.pack
+        nk.nav_update_batch(tick, np.ascontiguousarray(eta), np.ascontiguousarray(nu), active, self.x, self.P,
+                            self.hist, self.diag, p.cfg, p.par, *p.arrays)  # fmt: skip
 
-    def update(self, tick: int, eta: FloatArray) -> None:
-        """Fuse the measurements due at control period ``tick`` (sampled from the true pose ``eta``)."""
-        for sensor, j in self.suite.due(tick):
-            valid = sensor.valid[:, j]
-            if sensor.kind == "gnss":
-                lever = np.asarray(sensor.model.lever_arm_m, dtype=float)
-                z = gnss_position_ned(eta[:, 0], eta[:, 1], eta[:, 2], lever)[:, :2] + sensor.noise[:, j]
-                lx, ly = lever[..., 0], lever[..., 1]
-                sd = np.asarray(sensor.model.horizontal_sd_m, dtype=float)
-                r = np.eye(2) * (sd**2 if sd.ndim == 0 else (sd**2)[:, None, None])
-
-                def h(x, lx=lx, ly=ly):
-                    c, s = np.cos(x[:, 2]), np.sin(x[:, 2])
-                    return np.stack([x[:, 0] + c * lx - s * ly, x[:, 1] + s * lx + c * ly], axis=1)
-
-                def jac(x, lx=lx, ly=ly):
-                    c, s = np.cos(x[:, 2]), np.sin(x[:, 2])
-                    out = np.zeros((x.shape[0], 2, 6))
-                    out[:, 0, 0] = 1.0
-                    out[:, 1, 1] = 1.0
-                    out[:, 0, 2] = -s * lx - c * ly
-                    out[:, 1, 2] = c * lx - s * ly
-                    return out
-
-                up = ekf_update(self.x, self.P, np.where(valid[:, None], z, np.nan), h, jac, r, valid=valid, gate=GATE)
-            else:
-                z = compass_heading(eta[:, 2], sensor.model, noise_rad=sensor.noise[:, j])[:, None]
-                sd = math.radians(float(np.max(sensor.model.noise_sd_deg)))
-                up = ekf_update(self.x, self.P, np.where(valid[:, None], z, np.nan), lambda x: x[:, 2:3],
-                                lambda x: _HEADING_JAC, np.array([[sd * sd]]), valid=valid, gate=GATE,
-                                angle_residuals=(0,))  # fmt: skip
-            self.x, self.P = np.array(up.x), np.array(up.P)
-            self.x[:, 2] = wrap_pi(self.x[:, 2])
-
-    def predict(self, dt: float) -> None:
-        """Propagate the estimate over one control period of ``dt`` seconds."""
-        x = self.x
-        c, s = np.cos(x[:, 2]), np.sin(x[:, 2])
-        u, v, r = x[:, 3], x[:, 4], x[:, 5]
-        n = x.shape[0]
-        f = np.tile(np.eye(6), (n, 1, 1))
-        f[:, 0, 2] = -dt * (u * s + v * c)
-        f[:, 0, 3] = dt * c
-        f[:, 0, 4] = -dt * s
-        f[:, 1, 2] = dt * (u * c - v * s)
-        f[:, 1, 3] = dt * s
-        f[:, 1, 4] = dt * c
-        f[:, 2, 5] = dt
-        q = np.diag([0.0, 0.0, 0.0, Q_UV**2 * dt, Q_UV**2 * dt, Q_R**2 * dt])
-        _, self.P = kf_predict(x, self.P, f, q)
-        new = x.copy()
-        new[:, 0] += dt * (u * c - v * s)
-        new[:, 1] += dt * (u * s + v * c)
-        new[:, 2] = wrap_pi(x[:, 2] + dt * r)
-        self.x = new
+    def predict(self, tick: int, period: float, eta0: FloatArray, nu0: FloatArray, eta1: FloatArray, nu1: FloatArray,
+                active: NDArray[np.bool_]) -> None:  # fmt: skip
+        """Propagate over control period ``tick`` with the IMU increments between truths 0 and 1."""
+        p = self.pack
+        nk.nav_predict_batch(tick, period, np.ascontiguousarray(eta0), np.ascontiguousarray(nu0),
+                             np.ascontiguousarray(eta1), np.ascontiguousarray(nu1), active, self.x, self.P, self.diag,
+                             p.cfg, p.par, p.imu_err)  # fmt: skip
 
     def nav_state(self, t_s: float) -> NavState:
         """The estimate as the navigation solution the guide and pilot see."""
@@ -178,8 +304,6 @@ class EkfNavigator:
         c, s = np.cos(x[:, 2]), np.sin(x[:, 2])
         vn, ve = x[:, 3] * c - x[:, 4] * s, x[:, 3] * s + x[:, 4] * c
         return NavState(t_s=t_s, north_m=x[:, 0].copy(), east_m=x[:, 1].copy(), heading_rad=x[:, 2].copy(),
-                        surge_mps=x[:, 3].copy(), sway_mps=x[:, 4].copy(), yaw_rate_rad_s=x[:, 5].copy(),
-                        course_rad=np.arctan2(ve, vn), sog_mps=np.hypot(vn, ve))  # fmt: skip
-
-
-_HEADING_JAC = np.array([[0.0, 0.0, 1.0, 0.0, 0.0, 0.0]])
+                        surge_mps=x[:, 3].copy(), sway_mps=x[:, 4].copy(),
+                        yaw_rate_rad_s=self.diag[:, nk.D_RATE].copy(), course_rad=np.arctan2(ve, vn),
+                        sog_mps=np.hypot(vn, ve))  # fmt: skip

@@ -56,7 +56,7 @@ from ..spec.fields import representative
 from ..spec.schema import Spec
 from .actuation import Actuation
 from .blocks import LosGuide, NomotoPidPilot
-from .navigator import SensorSuite
+from .navigator import NavPack, build_nav_pack
 from .signals import NavState
 
 __all__ = ["TrialSetup", "build_seabed", "build_trial_setup", "check_spec_against_craft", "nominal_speed", "pilot_for"]
@@ -94,9 +94,11 @@ class TrialSetup:
     line_run_in_m : ndarray of shape (n_trials,)
         Distance along a line before its samples count [m].
     navigator : str
-        The spec's navigator ("truth" or "ekf").
-    sensors : SensorSuite or None
-        The spec's sensors for this batch (None without sensors).
+        The spec's navigator (``stack.navigator``).
+    nav : NavPack or None
+        The navigator's configuration and pre-drawn sensor errors (None for truth navigation).
+    running_depth_m : ndarray of shape (n_trials,)
+        Depth the craft holds [m] (0 for a surface craft).
     """
 
     env: TrialEnvironment
@@ -112,7 +114,8 @@ class TrialSetup:
     line_legs: NDArray[np.bool_]
     line_run_in_m: FloatArray
     navigator: str = "truth"
-    sensors: SensorSuite | None = None
+    nav: NavPack | None = None
+    running_depth_m: FloatArray | None = None
 
     @property
     def n_trials(self) -> int:
@@ -285,14 +288,19 @@ def build_trial_setup(spec: Spec, env: TrialEnvironment, *, pilot: NomotoPidPilo
         height = WINDAGE_HEIGHT_PER_BEAM * float(np.max(h.beam_m))
         windage = WindageParams(frontal_area_m2=float(np.max(h.beam_m)) * height,
                                 lateral_area_m2=hull_len * height, length_oa_m=hull_len)  # fmt: skip
+    seabed = build_seabed(spec)
+    depth = draws.get("mission.running_depth_m", m.running_depth_m)
+    nav = None
+    if spec.stack.navigator != "truth":
+        nav = build_nav_pack(spec, env.trials, draws, eta0, nu0, seabed)
     return TrialSetup(
         env=env, guide=guide, pilot=pilot or pilot_for(spec, craft), actuation=actuation, eta0=eta0, nu0=nu0,
-        act0=actuation.initial_state(nu0[:, 0]), seabed=build_seabed(spec), windage=windage,
+        act0=actuation.initial_state(nu0[:, 0]), seabed=seabed, windage=windage,
         abort_cross_track_m=m.abort_cross_track_m,
         line_legs=np.broadcast_to(np.arange(n_legs) % 2 == 0 if m.kind == "survey" else np.ones(n_legs, dtype=bool),
                                   (n, n_legs)),
-        navigator=spec.stack.navigator,
-        sensors=SensorSuite(spec, env.trials) if spec.sensors else None,
+        navigator=spec.stack.navigator, nav=nav,
+        running_depth_m=np.broadcast_to(np.asarray(depth, dtype=float), (n,)).copy(),
         line_run_in_m=np.broadcast_to(
             m.line_run_in_m if m.line_run_in_m is not None else 2.0 * np.asarray(los.lookahead_m, dtype=float), (n,)
         ),
