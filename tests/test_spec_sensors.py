@@ -244,14 +244,18 @@ def test_every_imu_grade_preset_loads_by_name() -> None:
 def test_imu_override_table_has_every_imu_grade_figure_and_no_distribution() -> None:
     names = {f.name for f in dataclasses.fields(ImuOverridesSpec)}
     assert names == {f.name for f in dataclasses.fields(ImuGrade)}
-    err = refused(spec_text().replace("gyro_arw_deg_per_sqrt_h = 0.1", "gyro_arw_deg_per_sqrt_h = { uniform = [0.1, 0.2] }"))
+    err = refused(
+        spec_text().replace("gyro_arw_deg_per_sqrt_h = 0.1", "gyro_arw_deg_per_sqrt_h = { uniform = [0.1, 0.2] }")
+    )
     assert err.field == "sensors.imu1.imu.gyro_arw_deg_per_sqrt_h" and "no distribution" in err.allowed
 
 
 def test_python_construction_is_validated_and_matches_the_loaded_table() -> None:
     s = SensorSpec(kind="imu", rate_hz=10.0, grade="navigation", imu=ImuOverridesSpec(gyro_scale_factor_sd_ppm=0.0))
     assert s.model == imu_grade("navigation", gyro_scale_factor_sd_ppm=0.0)
-    with pytest.raises(ParameterError, match=r"^gyro_scale_factor_sd_ppm = -1\.0 is not allowed: must be a finite number >= 0"):
+    with pytest.raises(
+        ParameterError, match=r"^gyro_scale_factor_sd_ppm = -1\.0 is not allowed: must be a finite number >= 0"
+    ):
         ImuOverridesSpec(gyro_scale_factor_sd_ppm=-1.0)
     with pytest.raises(ParameterError, match=r"^beacons_ned_m = None is not allowed: is required for kind 'acoustic'"):
         SensorSpec(kind="acoustic", rate_hz=1.0)
@@ -397,7 +401,11 @@ def test_bad_input_names_path_value_and_what_is_allowed(edit, path: str, value: 
 
 def test_latency_is_checked_against_the_control_period_not_the_time_step() -> None:
     # Control period 0.2 s (two time steps of 0.1 s): the DVL's 0.1 s latency is half a period.
-    text = spec_text().replace("control_period_s = 0.1", "control_period_s = 0.2").replace("rate_hz = 10.0", "rate_hz = 5.0")
+    text = (
+        spec_text()
+        .replace("control_period_s = 0.1", "control_period_s = 0.2")
+        .replace("rate_hz = 10.0", "rate_hz = 5.0")
+    )
     err = refused(text)
     assert err.field == "sensors.dvl1.latency_s"
     assert str(err) == (

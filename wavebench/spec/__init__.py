@@ -25,8 +25,13 @@ from .schema import (
     spec_from_data,
     spec_to_data,
 )
+from .sensors import NAVIGATOR_NEEDS, NAVIGATORS, SENSOR_KINDS, ImuOverridesSpec, SensorSpec
+from .tables import TerrainSpec
 
 __all__ = [
+    "NAVIGATORS",
+    "NAVIGATOR_NEEDS",
+    "SENSOR_KINDS",
     "SPEC_VERSION",
     "CampaignSpec",
     "Choice",
@@ -34,6 +39,7 @@ __all__ = [
     "CurrentSpec",
     "CurrentVariationSpec",
     "GuideSpec",
+    "ImuOverridesSpec",
     "LogNormal",
     "MissionSpec",
     "Normal",
@@ -42,9 +48,11 @@ __all__ = [
     "ScenarioSpec",
     "SeaSpec",
     "SeabedSpec",
+    "SensorSpec",
     "Spec",
     "SpreadingSpec",
     "StackSpec",
+    "TerrainSpec",
     "TrialCurrent",
     "TrialEnvironment",
     "TrialWind",
