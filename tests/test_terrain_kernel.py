@@ -10,8 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from filterpy.kalman import KalmanFilter
-from scipy import stats
-from scipy.special import ndtri
+from scipy import special, stats
 
 from wavebench.navigation import particle as oracle
 from wavebench.navigation import terrain_kernel as tk
@@ -73,18 +72,47 @@ def test_uniforms_pass_ks_and_stay_inside_the_open_interval() -> None:
     assert [tk.rng_uniform(np.uint64(5), np.uint64(1000 + i)) for i in range(50)] == u.tolist()
 
 
-def test_normals_are_the_inverse_normal_cdf_of_the_uniforms() -> None:
-    # Wichura (1988) AS 241 is accurate to about 1e-16 relative; reference
-    # scipy.special.ndtri (cephes). Also at the extremes the uniforms reach:
-    # 2**-54, the AS 241 branch limits 0.075 / 0.925 and 1 - 2**-53.
-    u = _uniforms(11, 200_000)
-    z = _normals(11, 200_000)
-    np.testing.assert_allclose(z, ndtri(u), rtol=2e-15, atol=2e-15)
-    edges = np.array([2.0**-54, 1e-300 + 2.0**-54, 1e-12, 0.0749999, 0.075, 0.0750001, 0.5, 0.925, 0.9250001,
-                      1.0 - 1e-12, 1.0 - 2.0**-53])  # fmt: skip
-    np.testing.assert_allclose([tk._ndtri(p) for p in edges], ndtri(edges), rtol=2e-15, atol=2e-15)
-    # the two-pass fill gives the scalar function's bits
-    assert [tk.rng_normal(np.uint64(11), np.uint64(i)) for i in range(2000)] == z[:2000].tolist()
+def test_ziggurat_tables() -> None:
+    # Marsaglia & Tsang (2000): every layer of the ziggurat has the same area
+    # v = r f(r) + int_r^inf f, f(x) = exp(-x^2/2), with x_255 = r:
+    # x_{i+1} (f(x_i) - f(x_{i+1})) = v for the rectangles, x_1 (1 - f(x_1)) = v
+    # for the top one (this is what fixes r), and the base strip, of width
+    # q = v / f(r), is w_0 * 2^52.
+    r = tk._ZIG_R
+    v = r * np.exp(-0.5 * r * r) + np.sqrt(np.pi / 2.0) * special.erfc(r / np.sqrt(2.0))
+    x = tk._ZIG_W * 2.0**52  # x_i for i >= 1
+    f = tk._ZIG_F
+    assert x[255] == r and f[0] == 1.0
+    np.testing.assert_allclose(f[1:], np.exp(-0.5 * x[1:] ** 2), rtol=1e-14)
+    np.testing.assert_allclose(x[2:] * (f[1:-1] - f[2:]), v, rtol=1e-9)
+    np.testing.assert_allclose(x[1] * (1.0 - f[1]), v, rtol=1e-9)
+    np.testing.assert_allclose(x[0] * f[255], v, rtol=1e-14)
+    # and they are numpy's (numpy/random/src/distributions/ziggurat_constants.h,
+    # ki_double / wi_double / fi_double, the same 256-layer, 52-bit layout)
+    for i, ki in ((0, 0x000EF33D8025EF6A), (1, 0), (2, 0x000C08BE98FBC6A8), (255, 0x000F1A5A4B331C4A)):
+        assert abs(int(tk._ZIG_K[i]) - ki) <= 1e-13 * ki, i
+    np.testing.assert_allclose(tk._ZIG_W[[0, 1, 255]], [8.68362706080130616677e-16, 4.77933017572773682428e-17,
+                                                       8.11384933765648418565e-16], rtol=1e-13)  # fmt: skip
+    np.testing.assert_allclose(tk._ZIG_F[[0, 1, 2]], [1.0, 9.77101701267671596263e-01, 9.59879091800106665211e-01],
+                               rtol=1e-13)  # fmt: skip
+
+
+def test_normals_fine_bins_and_tail() -> None:
+    # 4 x 10^6 draws (fixed key): Pearson chi-square over 200 equiprobable
+    # N(0, 1) bins (scipy.stats.chisquare with scipy.stats.norm.ppf edges), the
+    # count beyond the ziggurat's tail start r (scipy.stats.binomtest against
+    # 2 Q(r)) and the shape of that tail (KS against the normal truncated to
+    # |z| > r, scipy.stats.truncnorm); each p > 1e-3.
+    z = _normals(0xC0FFEE, 4_000_000)
+    edges = stats.norm.ppf(np.linspace(0.0, 1.0, 201))
+    counts = np.histogram(z, edges)[0]
+    assert stats.chisquare(counts).pvalue > 1e-3
+    r = tk._ZIG_R
+    tail = np.abs(z[np.abs(z) > r])
+    assert stats.binomtest(tail.size, z.size, 2.0 * stats.norm.sf(r)).pvalue > 1e-3
+    assert stats.kstest(tail, stats.truncnorm(r, np.inf).cdf).pvalue > 1e-3
+    # the fill and the scalar function agree
+    assert [tk.rng_normal(np.uint64(0xC0FFEE), np.uint64(i)) for i in range(3000)] == z[:3000].tolist()
 
 
 def test_normals_pass_ks() -> None:
@@ -134,30 +162,44 @@ def test_counter_scheme() -> None:
 # seabed lookup
 
 
-def _check_grid(gn: np.ndarray, ge: np.ndarray, grid: np.ndarray, fill: float | None, rng: np.random.Generator) -> None:
+def _check_grid(gn: np.ndarray, ge: np.ndarray, grid: np.ndarray, fill: float | None, rng: np.random.Generator,
+                exact: bool) -> None:  # fmt: skip
     bed = SeabedGrid(north_m=gn, east_m=ge, depth_m=grid, fill_depth_m=fill)
     n = np.concatenate([rng.uniform(gn[0] - 50, gn[-1] + 50, 3000), gn, gn, [np.nan, gn[-1], gn[0]]])
     e = np.concatenate([rng.uniform(ge[0] - 50, ge[-1] + 50, 3000), np.full(gn.size, ge[-1]), np.full(gn.size, ge[0]),
                         [0.0, ge[-1], np.nan]])  # fmt: skip
     want = depth_at(bed, n, e)
     f = np.nan if fill is None else fill
-    got = np.array([tk.seabed_depth(gn, ge, grid, f, a, b) for a, b in zip(n, e, strict=True)])
-    np.testing.assert_array_equal(got, want)
+    got = np.empty(n.size)
+    tk.seabed_depths(gn, ge, grid, f, np.column_stack([n, e]), got)
+    one = [tk.seabed_depth(gn, ge, grid, f, a, b) for a, b in zip(n[:50], e[:50], strict=True)]
+    np.testing.assert_array_equal(one, got[:50])
+    if exact:
+        np.testing.assert_array_equal(got, want)
+    else:
+        np.testing.assert_array_equal(np.isnan(got), np.isnan(want))
+        np.testing.assert_allclose(got, want, rtol=1e-13)
 
 
 def test_seabed_lookup_is_depth_at_bit_for_bit() -> None:
     # Same convention as wavebench.sea.seabed.depth_at (searchsorted cell,
-    # clipped; fill outside and at NaN); uniform and non-uniform axes.
+    # clipped; fill outside and at NaN): the same bits on non-uniform axes,
+    # the same values to rounding on uniform ones (cell from one multiplication).
     rng = np.random.default_rng(3)
     gn = np.linspace(-300.0, 900.0, 61)
     ge = np.linspace(0.0, 500.0, 26)
     grid = rng.uniform(5.0, 80.0, (gn.size, ge.size))
-    _check_grid(gn, ge, grid, None, rng)
-    _check_grid(gn, ge, grid, 0.0, rng)
+    _check_grid(gn, ge, grid, None, rng, exact=False)
+    _check_grid(gn, ge, grid, 0.0, rng, exact=False)
     gn2 = np.cumsum(rng.uniform(1.0, 40.0, 61)) - 200.0
     ge2 = np.cumsum(rng.uniform(0.5, 30.0, 26))
-    _check_grid(gn2, ge2, grid, None, rng)
-    _check_grid(gn2, ge2, grid, 12.5, rng)
+    _check_grid(gn2, ge2, grid, None, rng, exact=True)
+    _check_grid(gn2, ge2, grid, 12.5, rng, exact=True)
+    _check_grid(gn, ge2, grid, None, rng, exact=False)  # one axis of each kind
+    # nearly uniform (a line moved by 1e-6 of a spacing): the general path, bit for bit
+    gn3 = gn.copy()
+    gn3[7] += 1e-6 * (gn[1] - gn[0])
+    _check_grid(gn3, ge2, grid, None, rng, exact=True)
 
 
 def test_bilinear_reproduces_a_bilinear_surface() -> None:
@@ -326,7 +368,7 @@ def test_static_pf_matches_the_bayes_update_of_a_linear_gaussian_model() -> None
     # filter), a weighted mean has standard error ~ sd / sqrt(ESS) and a
     # weighted variance ~ var * sqrt(2 / ESS) (Kong's ESS approximation for
     # Gaussian posteriors; common practice, no exact source); we allow 5 of them.
-    # (Over 10 other key/noise seeds the largest deviation seen was 3.3 of them.)
+    # (Over 10 other key/noise seeds the largest deviation seen was 3.2 of them, the east mean.)
     # For east, which the weights ignore, the weighted mean's error is exactly
     # N(0, s0^2 sum w^2) = N(0, s0^2 / ESS).
     m, s0, r, k = 20_000, 20.0, 0.5, 4
@@ -359,7 +401,7 @@ def test_moving_pf_with_resampling_tracks_the_kalman_filter() -> None:
     # (F = I, B u = v, Q = q^2 I, H = [B, 0], R = r^2). Our tolerances, no source:
     # after 20 steps the PF mean within 0.5 KF standard deviations and the
     # standard deviation within 30 % (1000 particles, resampled at ESS < N/2).
-    # Over 10 other key/noise seeds the worst seen were 0.28 sd and 11 %.
+    # Over 10 other key/noise seeds the worst seen were 0.14 sd and 7 %.
     n_steps, m, q, r, s0 = 60, 1000, 0.3, 0.5, 20.0
     rng = np.random.default_rng(31)
     vel = np.array([1.2, -0.7])
@@ -422,7 +464,7 @@ def test_terrain_aided_error_falls_below_the_prior_and_beats_dead_reckoning() ->
     # filter's error drops well below the prior spread and stays there while
     # dead reckoning with a biased velocity log drifts away (~37 m after 600 s).
     # Over 8 other key/noise seeds the worst values seen were: max error after
-    # 100 s 8.7 m, mean over the last 300 s 4.7 m.
+    # 100 s 9.2 m, mean over the last 300 s 5.0 m.
     gn, ge, grid, depth = _bumpy_seabed()
     rng = np.random.default_rng(99)
     n_steps, m, s0 = 600, 1000, 30.0
@@ -444,7 +486,7 @@ def test_terrain_aided_error_falls_below_the_prior_and_beats_dead_reckoning() ->
         err[i] = np.hypot(*(mean - truth[i]))
     dr_err = np.hypot(*(dr - truth).T)
     assert err[100:].max() < 0.5 * s0
-    assert err[-300:].mean() < 0.2 * s0
+    assert err[-300:].mean() < 0.25 * s0
     assert dr_err[-1] > 30.0
     assert dr_err[-1] > 4.0 * err[-300:].mean()
 

@@ -27,12 +27,17 @@ batch composition, the block of ticks a kernel runs, or the order of calls:
 - :func:`rng_uniform` takes its top 53 bits, ``u = (x >> 11) * 2**-53``,
   in (0, 1): the one value ``k = x >> 11 = 0`` (probability 2**-53) is
   replaced by ``2**-54`` so that 0 never occurs;
-- :func:`rng_normal` is the inverse normal CDF of that uniform, by
-  Wichura's algorithm AS 241 (PPND16, relative accuracy about 1e-16) [2]_:
-  one uniform per normal and mostly no transcendental function (only the
-  15 % of draws in the tails take a ``log`` and a ``sqrt``), which is why it
-  is used here instead of Box-Muller. The normals are bounded by about
-  8.3 in magnitude (the uniform's resolution).
+- :func:`rng_normal` is the ziggurat method of Marsaglia & Tsang (2000)
+  [2]_ with 256 layers, in the 64-bit layout numpy uses: from the draw
+  ``x = rng_u64(key, c)``, bits 0-7 pick the layer, bit 8 the sign and bits
+  9-60 a 52-bit magnitude; 99.3 % of normals are accepted at once (one
+  multiplication and a comparison, no transcendental function). The rest
+  (the wedges and the tail beyond ``r = 3.6541528853610088``) need further
+  uniforms: they come from the SplitMix64 stream keyed by ``x`` itself
+  (``rng_u64(x, 0), rng_u64(x, 1), ...``), so a normal is still a function
+  of ``(key, c)`` alone. The tables are computed at import from ``r`` by
+  the paper's recursion, with the layer area
+  ``v = r exp(-r^2/2) + sqrt(pi/2) erfc(r/sqrt(2))``.
 
 Counter scheme (:func:`pf_counter`)::
 
@@ -57,13 +62,16 @@ Seabed
 ------
 The depth at a particle is the bilinear interpolation of a grid (``gn``
 north axis, ``ge`` east axis, ``grid[i, j]`` depth at ``(gn[i], ge[j])``),
-bit for bit the convention of :func:`wavebench.sea.seabed.depth_at` and of
-the fused run's compiled lookup: the enclosing cell is the one
+in the convention of :func:`wavebench.sea.seabed.depth_at` and of the fused
+run's compiled lookup: the enclosing cell is the one
 ``searchsorted(side="right") - 1``, clipped to the last cell, would give,
-and points outside the grid (or at NaN positions) get ``fill``. A uniform
-axis finds the cell by one multiplication (checked against the two
-neighbouring grid lines, with ``searchsorted`` as the fallback), so the
-result is the same for any strictly increasing axis.
+and points outside the grid (or at NaN positions) get ``fill``. On a
+uniform axis (every line within ``UNIFORM_AXIS_TOL`` spacings of
+``axis[0] + i * spacing``; checked on each call, O(grid size)) the cell and
+the fraction in it come from one multiplication, ``f = (x - axis[0]) /
+spacing``, and agree with ``depth_at`` to rounding (~1e-15 relative); on
+any other axis they come from ``searchsorted`` and the depths are
+``depth_at``'s bits.
 
 A particle whose depth is NaN (outside the grid with ``fill`` NaN: no
 information) gets zero weight (log weight ``-inf``), like the numpy filter.
@@ -77,8 +85,8 @@ References
 .. [1] G. L. Steele Jr., D. Lea and C. H. Flood, "Fast splittable
    pseudorandom number generators", OOPSLA 2014, ACM SIGPLAN Notices 49(10),
    453-472 (2014); S. Vigna, ``splitmix64.c`` (reference implementation).
-.. [2] M. J. Wichura, "Algorithm AS 241: The percentage points of the normal
-   distribution", Applied Statistics 37(3), 477-484 (1988).
+.. [2] G. Marsaglia and W. W. Tsang, "The ziggurat method for generating
+   random variables", Journal of Statistical Software 5(8), 1-7 (2000).
 .. [3] M. S. Arulampalam, S. Maskell, N. Gordon and T. Clapp, "A tutorial on
    particle filters for online nonlinear/non-Gaussian Bayesian tracking",
    IEEE Transactions on Signal Processing 50(2), 174-188 (2002).
@@ -89,6 +97,8 @@ References
 
 from __future__ import annotations
 
+import math
+
 import numba
 import numpy as np
 
@@ -98,6 +108,7 @@ __all__ = [
     "PURPOSE_INIT",
     "PURPOSE_PREDICT",
     "PURPOSE_RESAMPLE",
+    "UNIFORM_AXIS_TOL",
     "pf_counter",
     "pf_estimate",
     "pf_init",
@@ -113,6 +124,7 @@ __all__ = [
     "rng_u64",
     "rng_uniform",
     "seabed_depth",
+    "seabed_depths",
 ]
 
 #: Purposes of the counter scheme (see the module notes).
@@ -137,15 +149,48 @@ _U_MAXP = np.uint64(MAX_PARTICLES)
 _TWO_M53 = 2.0**-53
 _TWO_M54 = 2.0**-54
 
-_JIT = {"cache": True, "error_model": "numpy"}
+_S8 = np.uint64(8)
+_S9 = np.uint64(9)
+_LOW8 = np.uint64(0xFF)
+_MANT52 = np.uint64(0x000FFFFFFFFFFFFF)
 
-# exp for x <= 0 (weights relative to the largest): Cody-Waite reduction
-# x = k ln2 + r, |r| <= ln2 / 2, degree-13 Taylor polynomial (remainder
-# 0.347**14 / 14! < 5e-18), 2**k from a table.
-_LOG2E = 1.4426950408889634
-_LN2_HI = 6.93147180369123816490e-01
-_LN2_LO = 1.90821492927058770002e-10
-_POW2_NEG = 2.0 ** -np.arange(1024.0)
+
+def _ziggurat_tables(r: float, n_layers: int = 256) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Ziggurat tables for the normal density ``f(x) = exp(-x^2/2)``, Marsaglia & Tsang (2000).
+
+    Layer area ``v = r f(r) + int_r^inf f``; from the base up,
+    ``x_{i-1} = f^-1(v / x_i + f(x_i))``. Returned, for 52-bit magnitudes
+    ``m``: ``k[i]`` (accept ``m < k[i]`` at once), ``w[i]`` (``z = m w[i]``)
+    and ``f[i] = f(x_i)``.
+    """
+    scale = 2.0**52
+    v = r * math.exp(-0.5 * r * r) + math.sqrt(math.pi / 2.0) * math.erfc(r / math.sqrt(2.0))
+    k = np.zeros(n_layers, dtype=np.uint64)
+    w = np.zeros(n_layers)
+    f = np.zeros(n_layers)
+    dn = tn = r
+    q = v / math.exp(-0.5 * dn * dn)
+    k[0] = int((dn / q) * scale)
+    w[0] = q / scale
+    w[-1] = dn / scale
+    f[0] = 1.0
+    f[-1] = math.exp(-0.5 * dn * dn)
+    for i in range(n_layers - 2, 0, -1):
+        dn = math.sqrt(-2.0 * math.log(v / dn + math.exp(-0.5 * dn * dn)))
+        k[i + 1] = int((dn / tn) * scale)
+        tn = dn
+        f[i] = math.exp(-0.5 * dn * dn)
+        w[i] = dn / scale
+    return k, w, f
+
+
+#: Start of the tail of the 256-layer normal ziggurat (the value numpy's
+#: generator uses; it makes the top layer close, see the tests).
+_ZIG_R = 3.6541528853610088
+_ZIG_INV_R = 1.0 / _ZIG_R
+_ZIG_K, _ZIG_W, _ZIG_F = _ziggurat_tables(_ZIG_R)
+
+_JIT = {"cache": True, "error_model": "numpy"}
 
 
 # ---------------------------------------------------------------------------
@@ -207,63 +252,56 @@ def rng_uniform(key, counter):  # type: ignore[no-untyped-def]
 
 
 @numba.njit(**_JIT)
-def _ndtri_central(q):  # type: ignore[no-untyped-def]
-    """AS 241 for |q| = |p - 0.5| <= 0.425 (branch-free, so loops over it vectorise)."""
-    r = 0.180625 - q * q
-    num = (((((((2.5090809287301226727e3 * r + 3.3430575583588128105e4) * r + 6.7265770927008700853e4) * r
-               + 4.5921953931549871457e4) * r + 1.3731693765509461125e4) * r + 1.9715909503065514427e3) * r
-            + 1.3314166789178437745e2) * r + 3.3871328727963666080e0)  # fmt: skip
-    den = (((((((5.2264952788528545610e3 * r + 2.8729085735721942674e4) * r + 3.9307895800092710610e4) * r
-               + 2.1213794301586595867e4) * r + 5.3941960214247511077e3) * r + 6.8718700749205790830e2) * r
-            + 4.2313330701600911252e1) * r + 1.0)  # fmt: skip
-    return q * num / den
-
-
-@numba.njit(**_JIT)
-def _ndtri(p):  # type: ignore[no-untyped-def]
-    """Inverse standard normal CDF for p in (0, 1): Wichura (1988), AS 241 (PPND16)."""
-    q = p - 0.5
-    if abs(q) <= 0.425:
-        return _ndtri_central(q)
-    r = p if q < 0.0 else 1.0 - p
-    r = np.sqrt(-np.log(r))
-    if r <= 5.0:
-        r -= 1.6
-        num = (((((((7.74545014278341407640e-4 * r + 2.27238449892691845833e-2) * r + 2.41780725177450611770e-1) * r
-                   + 1.27045825245236838258e0) * r + 3.64784832476320460504e0) * r + 5.76949722146069140550e0) * r
-                + 4.63033784615654529590e0) * r + 1.42343711074968357734e0)  # fmt: skip
-        den = (((((((1.05075007164441684324e-9 * r + 5.47593808499534494600e-4) * r + 1.51986665636164571966e-2) * r
-                   + 1.48103976427480074590e-1) * r + 6.89767334985100004550e-1) * r + 1.67638483018380384940e0) * r
-                + 2.05319162663775882187e0) * r + 1.0)  # fmt: skip
-    else:
-        r -= 5.0
-        num = (((((((2.01033439929228813265e-7 * r + 2.71155556874348757815e-5) * r + 1.24266094738807843860e-3) * r
-                   + 2.65321895265761230930e-2) * r + 2.96560571828504891230e-1) * r + 1.78482653991729133580e0) * r
-                + 5.46378491116411436990e0) * r + 6.65790464350110377720e0)  # fmt: skip
-        den = (((((((2.04426310338993978564e-15 * r + 1.42151175831644588870e-7) * r + 1.84631831751005468180e-5) * r
-                   + 7.86869131145613259100e-4) * r + 1.48753612908506148525e-2) * r + 1.36929880922735805310e-1) * r
-                + 5.99832206555887937690e-1) * r + 1.0)  # fmt: skip
-    val = num / den
-    return -val if q < 0.0 else val
+def _zig_rest(x0, idx, rabs, z):  # type: ignore[no-untyped-def]
+    """The ziggurat's slow paths (wedge test, tail, new tries), drawing from the stream keyed by ``x0``."""
+    a = np.uint64(0)
+    while True:
+        if idx == 0:  # the base strip: the tail beyond r (Marsaglia 1964, as in the paper)
+            while True:
+                t = -_ZIG_INV_R * np.log1p(-_top53(x0, a))
+                y = -np.log1p(-_top53(x0, a + _ONE))
+                a += _TWO
+                if y + y > t * t:
+                    return -(_ZIG_R + t) if (rabs >> _S8) & _ONE else _ZIG_R + t
+        else:  # a wedge: accept under the density
+            if (_ZIG_F[idx - 1] - _ZIG_F[idx]) * _top53(x0, a) + _ZIG_F[idx] < np.exp(-0.5 * z * z):
+                return z
+            a += _ONE
+        x = rng_u64(x0, a)  # try again
+        a += _ONE
+        idx = int(x & _LOW8)
+        rabs = (x >> _S9) & _MANT52
+        z = float(rabs) * _ZIG_W[idx]
+        if (x >> _S8) & _ONE:
+            z = -z
+        if rabs < _ZIG_K[idx]:
+            return z
 
 
 @numba.njit(**_JIT)
 def rng_normal(key, counter):  # type: ignore[no-untyped-def]
-    """Standard normal: the inverse normal CDF (AS 241) of :func:`rng_uniform` at the same counter.
+    """Standard normal by the ziggurat method from the draw ``rng_u64(key, counter)``.
 
     Returns
     -------
     float
-        ``Phi^-1(rng_uniform(key, counter))``; one uniform per normal.
+        A N(0, 1) variate; see the module notes for the layout.
 
     Examples
     --------
-    >>> from scipy.special import ndtri
-    >>> k, c = np.uint64(7), np.uint64(3)
-    >>> bool(abs(rng_normal(k, c) - ndtri(rng_uniform(k, c))) < 1e-14)
+    >>> z = np.array([rng_normal(np.uint64(7), np.uint64(c)) for c in range(20000)])
+    >>> bool(abs(z.mean()) < 0.03 and abs(z.std() - 1.0) < 0.03)
     True
     """
-    return _ndtri(rng_uniform(key, counter))
+    x = rng_u64(key, counter)
+    idx = int(x & _LOW8)
+    rabs = (x >> _S9) & _MANT52
+    z = float(rabs) * _ZIG_W[idx]
+    if (x >> _S8) & _ONE:
+        z = -z
+    if rabs < _ZIG_K[idx]:
+        return z
+    return _zig_rest(x, idx, rabs, z)
 
 
 @numba.njit(**_JIT)
@@ -276,25 +314,10 @@ def rng_fill_uniform(key, counter0, out):  # type: ignore[no-untyped-def]
 
 @numba.njit(**_JIT)
 def rng_fill_normal(key, counter0, out):  # type: ignore[no-untyped-def]
-    """Fill ``out`` (1-D float64) with ``rng_normal(key, counter0 + i)``, bit for bit.
-
-    Notes
-    -----
-    Two passes for speed: a branch-free pass (which the compiler vectorises)
-    draws the uniforms and applies AS 241's central formula to all of them,
-    then a scalar pass redoes the ~15 % in the tails (``|u - 0.5| > 0.425``)
-    and the ``u = 0`` case. Every value is what :func:`rng_normal` gives.
-    """
-    n = out.shape[0]
+    """Fill ``out`` (1-D float64) with ``rng_normal(key, counter0 + i)``."""
     c0 = np.uint64(counter0)
-    u = np.empty(n)
-    for i in range(n):
-        u[i] = _top53(key, c0 + np.uint64(i))
-    for i in range(n):
-        out[i] = _ndtri_central(u[i] - 0.5)
-    for i in range(n):
-        if abs(u[i] - 0.5) > 0.425:  # the tails (and u = 0): scalar
-            out[i] = _ndtri(u[i] if u[i] > 0.0 else _TWO_M54)
+    for i in range(out.shape[0]):
+        out[i] = rng_normal(key, c0 + np.uint64(i))
 
 
 @numba.njit(**_JIT)
@@ -325,36 +348,23 @@ def pf_counter(tick, purpose, particle, axis):  # type: ignore[no-untyped-def]
     return c * _TWO + np.uint64(axis)
 
 
-@numba.njit(**_JIT)
-def _exp_le0(x):  # type: ignore[no-untyped-def]
-    """``exp(x)`` for ``x <= 0`` (``-inf`` allowed), within 2 ulp; 0 below -708 (no subnormals).
-
-    Branch-free with a table for ``2**k``, so loops over it vectorise,
-    unlike the library ``exp``.
-    """
-    xc = max(x, -708.0)
-    k = np.floor(xc * _LOG2E + 0.5)
-    r = (xc - k * _LN2_HI) - k * _LN2_LO
-    p = 1.6059043836821613e-10  # 1 / 13!
-    p = p * r + 2.08767569878681e-09
-    p = p * r + 2.505210838544172e-08
-    p = p * r + 2.755731922398589e-07
-    p = p * r + 2.7557319223985893e-06
-    p = p * r + 2.48015873015873e-05
-    p = p * r + 0.0001984126984126984
-    p = p * r + 0.001388888888888889
-    p = p * r + 0.008333333333333333
-    p = p * r + 0.041666666666666664
-    p = p * r + 0.16666666666666666
-    p = p * r + 0.5
-    p = p * r + 1.0
-    p = p * r + 1.0
-    e = p * _POW2_NEG[int(-k)]
-    return e if x >= -708.0 else 0.0
-
-
 # ---------------------------------------------------------------------------
 # seabed
+
+
+#: An axis counts as uniform when every line is within this fraction of a
+#: spacing of ``axis[0] + i * spacing``.
+UNIFORM_AXIS_TOL = 1e-9
+
+
+@numba.njit(**_JIT)
+def _is_uniform(axis):  # type: ignore[no-untyped-def]
+    n = axis.shape[0]
+    h = (axis[-1] - axis[0]) / (n - 1)
+    for i in range(n):
+        if abs(axis[i] - (axis[0] + i * h)) > UNIFORM_AXIS_TOL * h:
+            return False
+    return True
 
 
 @numba.njit(**_JIT)
@@ -363,15 +373,27 @@ def _search(axis, x):  # type: ignore[no-untyped-def]
 
 
 @numba.njit(**_JIT)
-def _fill_depths(gn, ge, grid, fill, points, out):  # type: ignore[no-untyped-def]
-    """Bilinear depth at each row ``[north, east]`` of ``points`` into ``out``.
+def seabed_depths(gn, ge, grid, fill, points, out):  # type: ignore[no-untyped-def]
+    """Bilinear seabed depth at each row ``[north, east]`` of ``points``, as :func:`seabed_depth`.
 
-    The cell index is guessed from the axis' mean spacing and kept when the
-    two grid lines around it bracket the point; otherwise (non-uniform axis)
-    it comes from ``searchsorted``. Either way it is
-    ``clip(searchsorted(axis, x, "right") - 1, 0, size - 2)``, as in
-    :func:`wavebench.sea.seabed.depth_at`, and the interpolation is written
-    as there, so the depths are the same bits.
+    Parameters
+    ----------
+    gn, ge, grid, fill
+        The seabed, as in :func:`seabed_depth`.
+    points : ndarray of shape (n_points, 2)
+        Positions ``[north, east]`` [m].
+    out : ndarray of shape (n_points,)
+        Written: depths [m].
+
+    Notes
+    -----
+    The enclosing cell and the fractional position in it: on a uniform axis
+    ``f = (x - axis[0]) / spacing``, cell ``min(floor(f), size - 2)``,
+    fraction ``f - cell``; otherwise the cell is
+    ``clip(searchsorted(axis, x, "right") - 1, 0, size - 2)`` and the
+    fraction ``(x - axis[i]) / (axis[i + 1] - axis[i])``, as in
+    :func:`wavebench.sea.seabed.depth_at` (the same bits there; on a uniform
+    axis the same value to rounding, ~1e-15 relative).
     """
     n0 = gn[0]
     n1 = gn[-1]
@@ -381,20 +403,28 @@ def _fill_depths(gn, ge, grid, fill, points, out):  # type: ignore[no-untyped-de
     last_e = ge.shape[0] - 2
     inv_n = (last_n + 1) / (n1 - n0)
     inv_e = (last_e + 1) / (e1 - e0)
+    uniform_n = _is_uniform(gn)
+    uniform_e = _is_uniform(ge)
     for k in range(points.shape[0]):
         n = points[k, 0]
         e = points[k, 1]
         if not (n >= n0 and n <= n1 and e >= e0 and e <= e1):  # outside, or NaN
             out[k] = fill
             continue
-        i0 = min(max(int((n - n0) * inv_n), 0), last_n)
-        if not (gn[i0] <= n and (i0 == last_n or n < gn[i0 + 1])):
+        if uniform_n:
+            fn = (n - n0) * inv_n
+            i0 = min(int(fn), last_n)
+            wn = fn - i0
+        else:
             i0 = _search(gn, n)
-        j0 = min(max(int((e - e0) * inv_e), 0), last_e)
-        if not (ge[j0] <= e and (j0 == last_e or e < ge[j0 + 1])):
+            wn = (n - gn[i0]) / (gn[i0 + 1] - gn[i0])
+        if uniform_e:
+            fe = (e - e0) * inv_e
+            j0 = min(int(fe), last_e)
+            we = fe - j0
+        else:
             j0 = _search(ge, e)
-        wn = (n - gn[i0]) / (gn[i0 + 1] - gn[i0])
-        we = (e - ge[j0]) / (ge[j0 + 1] - ge[j0])
+            we = (e - ge[j0]) / (ge[j0 + 1] - ge[j0])
         low = (1.0 - we) * grid[i0, j0] + we * grid[i0, j0 + 1]
         high = (1.0 - we) * grid[i0 + 1, j0] + we * grid[i0 + 1, j0 + 1]
         out[k] = (1.0 - wn) * low + wn * high
@@ -434,7 +464,7 @@ def seabed_depth(gn, ge, grid, fill, north_m, east_m):  # type: ignore[no-untype
     pt[0, 0] = north_m
     pt[0, 1] = east_m
     out = np.empty(1)
-    _fill_depths(gn, ge, grid, fill, pt, out)
+    seabed_depths(gn, ge, grid, fill, pt, out)
     return out[0]
 
 
@@ -451,12 +481,11 @@ def _check_size(m):  # type: ignore[no-untyped-def]
 @numba.njit(**_JIT)
 def _jitter(key, tick, purpose, particles, sd_m, d_north, d_east):  # type: ignore[no-untyped-def]
     """``p_j <- (p_j + d) + sd_m * w_j`` with ``w_j`` at ``pf_counter(tick, purpose, j, axis)``."""
-    m = particles.shape[0]
-    w = np.empty(2 * m)
-    rng_fill_normal(key, pf_counter(tick, purpose, 0, 0), w)
-    for j in range(m):
-        particles[j, 0] = particles[j, 0] + d_north + sd_m * w[2 * j]
-        particles[j, 1] = particles[j, 1] + d_east + sd_m * w[2 * j + 1]
+    c = pf_counter(tick, purpose, 0, 0)
+    for j in range(particles.shape[0]):
+        particles[j, 0] = particles[j, 0] + d_north + sd_m * rng_normal(key, c)
+        particles[j, 1] = particles[j, 1] + d_east + sd_m * rng_normal(key, c + _ONE)
+        c += _TWO
 
 
 @numba.njit(**_JIT)
@@ -530,7 +559,7 @@ def _weigh(particles, logw, z_depth_m, sd_m, gn, ge, grid, fill, w):  # type: ig
     m = logw.shape[0]
     if not np.isfinite(z_depth_m):
         return np.nan, 0.0
-    _fill_depths(gn, ge, grid, fill, particles, w)
+    seabed_depths(gn, ge, grid, fill, particles, w)
     top = -np.inf
     for j in range(m):
         d = w[j]
@@ -549,7 +578,7 @@ def _weigh(particles, logw, z_depth_m, sd_m, gn, ge, grid, fill, w):  # type: ig
     for j in range(m):
         v = w[j]
         logw[j] = v
-        e = _exp_le0(v - top)
+        e = np.exp(v - top)
         w[j] = e
         s += e
         s2 += e * e
@@ -629,7 +658,7 @@ def _unnormalised(logw, w):  # type: ignore[no-untyped-def]
     s = 0.0
     for j in range(m):
         d = logw[j] - top
-        e = 1.0 if d == 0.0 else _exp_le0(d)
+        e = 1.0 if d == 0.0 else np.exp(d)
         w[j] = e
         s += e
     return s
