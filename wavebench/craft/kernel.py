@@ -514,17 +514,15 @@ def _advance_kernel(eta, nu, psi_w, tau, cur, hull, waves, roots, pil, use_pilot
                     wbuf, wpsi, use_ws):  # fmt: skip
     n = eta.shape[0]
     n_comp = waves.shape[2]
+    # scratch per trial allocated before the parallel loop: an allocation inside a prange body may be hoisted
+    # and shared between iterations
+    tmp = wbuf if use_ws else np.zeros((n, 8, n_comp))
     for i in numba.prange(n):
         beta = waves[i, 5]
         scale = waves[i, 4]
-        if use_ws:
-            w = wbuf[i, :6]
-            cb = wbuf[i, 6]
-            sb = wbuf[i, 7]
-        else:
-            w = np.zeros((6, n_comp))
-            cb = np.empty(n_comp)
-            sb = np.empty(n_comp)
+        w = tmp[i, :6]
+        cb = tmp[i, 6]
+        sb = tmp[i, 7]
         pw = psi_w[i]
         if n_comp > 0 and not (use_ws and wpsi[i] == pw):
             _weights(w, beta, scale, roots, pw)

@@ -31,11 +31,14 @@ def _table(freqs: np.ndarray, amps: np.ndarray, phases: np.ndarray, t0: float, d
     n_trials, n_comp = freqs.shape
     out = np.zeros((n_trials, n))
     two_pi = 2.0 * np.pi
+    # phasor scratch per trial, allocated before the parallel loop: an allocation inside a prange body may be
+    # hoisted out of the loop and shared between threads
+    scratch = np.empty((n_trials, 4, n_comp))
     for i in numba.prange(n_trials):
-        re = np.empty(n_comp)
-        im = np.empty(n_comp)
-        rc = np.empty(n_comp)
-        rs = np.empty(n_comp)
+        re = scratch[i, 0]
+        im = scratch[i, 1]
+        rc = scratch[i, 2]
+        rs = scratch[i, 3]
         for k in range(n_comp):
             w = two_pi * freqs[i, k] * dt
             rc[k] = np.cos(w)

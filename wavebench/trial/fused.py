@@ -79,6 +79,9 @@ def _run_block(
 ):  # fmt: skip
     n = eta.shape[0]
     no_pilot = np.zeros(7)
+    # scratch per trial allocated here, not in the prange body: an allocation there may be hoisted out of the
+    # loop and shared between iterations (numba's allocation hoisting), which would race between threads
+    works = np.empty((n, nk.WORK))
     n_legs = line_legs.shape[1]
     for i in numba.prange(n):
         if not alive[i]:
@@ -86,7 +89,7 @@ def _run_block(
         x, y, psi = eta[i, 0], eta[i, 1], eta[i, 2]
         u, v, r = nu[i, 0], nu[i, 1], nu[i, 2]
         p_w = pw[i]
-        work = np.empty(nk.WORK)
+        work = works[i]
         w = wbuf[i, :6]
         cb = wbuf[i, 6]
         sb = wbuf[i, 7]

@@ -14,14 +14,15 @@ over one control period ``T`` with the IMU's increments (rate ``w``,
 specific force ``f_x, f_y``, held when the IMU samples slower than the
 control period) is, with ``r = w - b_g``::
 
-    north' = north + T (u cos psi - v sin psi)
-    east'  = east  + T (u sin psi + v cos psi)
     psi'   = psi + T r
     u'     = u + T (f_x - b_x + r v)
     v'     = v + T (f_y - b_y - r u)
+    north' = north + T/2 (u cos psi - v sin psi + u' cos psi' - v' sin psi')
+    east'  = east  + T/2 (u sin psi + v cos psi + u' sin psi' + v' cos psi')
     b'     = phi b            (first-order Gauss-Markov, phi = exp(-T / tau))
 
-(Euler steps; the body-frame kinematics ``f = dnu/dt + omega x nu`` of e.g.
+(Euler steps for heading and velocity, the trapezoidal rule for position,
+the Jacobian of the Euler form at the prior; the body-frame kinematics ``f = dnu/dt + omega x nu`` of e.g.
 Fossen 2021, ch. 2 and 14, reduced to the horizontal plane.) Process noise
 comes from the IMU's own figures: angle and velocity random walk densities
 squared times ``T`` on heading and velocities, the Gauss-Markov bias
@@ -72,6 +73,10 @@ NX = 8
 GATE_NIS_2DOF = -2.0 * math.log(1e-4)
 #: Most consecutive GNSS fixes the gate may reject (common practice, no source).
 MAX_REJECTS = 3
+#: Process-noise floors for what the filter does not model (discretisation, wave-frequency motion): heading
+#: [rad^2/s] and body velocities [(m/s)^2/s]; our tuning, no source.
+Q_HEAD_FLOOR = math.radians(0.01) ** 2
+Q_VEL_FLOOR = 0.002**2
 
 # --- configuration vector (int64) -------------------------------------------------------
 C_MODE, C_GNSS, C_HEAD, C_DVL, C_ALT, C_DEPTH, C_AC = 0, 1, 2, 3, 4, 5, 6
@@ -90,8 +95,8 @@ P_ALT_SD, P_ALT_MIN, P_ALT_MAX, P_DEPTH_SD, P_RUN_DEPTH = 16, 17, 18, 19, 20
 P_AC_SD, P_AC_MAX, P_AC_SCALE = 21, 22, 23
 P_Q_GYRO, P_Q_ACC, P_BG_PHI, P_BG_Q, P_BA_PHI, P_BA_Q = 24, 25, 26, 27, 28, 29
 P_GSF, P_ASF_X, P_ASF_Y = 30, 31, 32
-P_SD0 = 33  # 8 initial standard deviations, 33..40
-N_PAR = 41
+P_SF_SD_G, P_SF_SD_A = 33, 34
+N_PAR = 35
 
 # --- per-trial diagnostics (float64, shape (n, N_DIAG)) -----------------------------------
 D_NIS, D_FIX_OK, D_NEES, D_RATE, D_REJECTS, D_DN, D_DE, D_GYRO, D_FX, D_FY, D_NIS_SUM, D_NIS_N = range(12)
@@ -358,15 +363,20 @@ def nav_predict_one(i, tick, period, u0, v0, psi0, u1, v1, psi1, x, P, diag, cfg
     psi, u, v, bg, bx, by = xi[2], xi[3], xi[4], xi[5], xi[6], xi[7]
     r = w - bg
     c, s = np.cos(psi), np.sin(psi)
-    dn = T * (u * c - v * s)
-    de = T * (u * s + v * c)
+    u1 = u + T * (fx - bx + r * v)
+    v1 = v + T * (fy - by - r * u)
+    psi1 = psi + T * r
+    c1, s1 = np.cos(psi1), np.sin(psi1)
+    # position by the trapezoidal rule over the period (the velocities are known at both ends)
+    dn = 0.5 * T * ((u * c - v * s) + (u1 * c1 - v1 * s1))
+    de = 0.5 * T * ((u * s + v * c) + (u1 * s1 + v1 * c1))
     diag[i, D_DN], diag[i, D_DE] = dn, de
     diag[i, D_RATE] = r
     xi[0] += dn
     xi[1] += de
-    xi[2] = wrap_scalar(psi + T * r)
-    xi[3] = u + T * (fx - bx + r * v)
-    xi[4] = v + T * (fy - by - r * u)
+    xi[2] = wrap_scalar(psi1)
+    xi[3] = u1
+    xi[4] = v1
     xi[5] = par[i, P_BG_PHI] * bg
     xi[6] = par[i, P_BA_PHI] * bx
     xi[7] = par[i, P_BA_PHI] * by
@@ -406,9 +416,14 @@ def nav_predict_one(i, tick, period, u0, v0, psi0, u1, v1, psi1, x, P, diag, cfg
                 acc += FP[a, k] * F[b, k]
             Pi[a, b] = acc
             Pi[b, a] = acc
-    Pi[2, 2] += par[i, P_Q_GYRO] * T
-    Pi[3, 3] += par[i, P_Q_ACC] * T
-    Pi[4, 4] += par[i, P_Q_ACC] * T
+    # IMU white noise, the scale-factor error the filter does not estimate (as white noise on this period's
+    # increment) and a small floor for the rest it does not model
+    sg = par[i, P_SF_SD_G] * w
+    sx = par[i, P_SF_SD_A] * fx
+    sy = par[i, P_SF_SD_A] * fy
+    Pi[2, 2] += (par[i, P_Q_GYRO] + Q_HEAD_FLOOR) * T + sg * sg * T * T
+    Pi[3, 3] += (par[i, P_Q_ACC] + Q_VEL_FLOOR) * T + sx * sx * T * T
+    Pi[4, 4] += (par[i, P_Q_ACC] + Q_VEL_FLOOR) * T + sy * sy * T * T
     Pi[5, 5] += par[i, P_BG_Q]
     Pi[6, 6] += par[i, P_BA_Q]
     Pi[7, 7] += par[i, P_BA_Q]
@@ -422,21 +437,21 @@ WORK = 2 * NX * NX + 64
 def nav_update_batch(tick, eta, nu, active, x, P, hist, diag, cfg, par, beacons, gnss_noise, gnss_valid, head_noise,
                      head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid, gn, ge, grid, fill):  # fmt: skip
     """:func:`nav_update_one` for every active trial (the Python loop's call)."""
+    work = np.empty((eta.shape[0], WORK))  # per trial, outside the parallel loop (see fused.py)
     for i in numba.prange(eta.shape[0]):
         if not active[i]:
             continue
-        work = np.empty(WORK)
         nav_update_one(i, tick, eta[i, 0], eta[i, 1], eta[i, 2], nu[i, 0], nu[i, 1], nu[i, 2], x, P, hist, diag,
                        cfg, par, beacons, gnss_noise, gnss_valid, head_noise, head_valid, dvl_noise, dvl_valid,
-                       ac_noise, ac_valid, gn, ge, grid, fill, work)  # fmt: skip
+                       ac_noise, ac_valid, gn, ge, grid, fill, work[i])  # fmt: skip
 
 
 @numba.njit(parallel=True, cache=True, error_model="numpy")
 def nav_predict_batch(tick, period, eta0, nu0, eta1, nu1, active, x, P, diag, cfg, par, imu_err):
     """:func:`nav_predict_one` for every active trial (the Python loop's call)."""
+    work = np.empty((eta0.shape[0], WORK))
     for i in numba.prange(eta0.shape[0]):
         if not active[i]:
             continue
-        work = np.empty(WORK)
         nav_predict_one(i, tick, period, nu0[i, 0], nu0[i, 1], eta0[i, 2], nu1[i, 0], nu1[i, 1], eta1[i, 2], x, P,
-                        diag, cfg, par, imu_err, work)  # fmt: skip
+                        diag, cfg, par, imu_err, work[i])  # fmt: skip

@@ -171,6 +171,8 @@ def build_nav_pack(spec: Spec, trials: TrialStreams, draws: dict[str, FloatArray
             par[:, nk.P_ASF_Y] = e.accel_scale_factor[:, 1]
             arw = np.asarray(m.gyro_arw_deg_per_sqrt_h, dtype=float) * math.pi / 180.0 / 60.0
             vrw = np.asarray(m.accel_vrw_mps_per_sqrt_h, dtype=float) / 60.0
+            par[:, nk.P_SF_SD_G] = np.asarray(m.gyro_scale_factor_sd_ppm, dtype=float) * 1e-6
+            par[:, nk.P_SF_SD_A] = np.asarray(m.accel_scale_factor_sd_ppm, dtype=float) * 1e-6
             par[:, nk.P_Q_GYRO] = arw**2
             par[:, nk.P_Q_ACC] = vrw**2
             for kind, phi_i, q_i, col, bi, tc, rrw, ton in (
