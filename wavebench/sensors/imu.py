@@ -541,5 +541,7 @@ def imu_errors(
         turn_on_sd=arr(grade.accel_turn_on_bias_sd_mps2, 1.0),
         scale_sd=arr(grade.accel_scale_factor_sd_ppm, 1e-6),
     )  # fmt: skip
-    return ImuMeasurement(gyro_rad_s=gyro, accel_mps2=accel, gyro_bias_rad_s=gyro_bias,
-                          accel_bias_mps2=accel_bias, gyro_scale_factor=gyro_sf, accel_scale_factor=accel_sf)  # fmt: skip
+    return ImuMeasurement(
+        gyro_rad_s=gyro, accel_mps2=accel, gyro_bias_rad_s=gyro_bias, accel_bias_mps2=accel_bias,
+        gyro_scale_factor=gyro_sf, accel_scale_factor=accel_sf,
+    )  # fmt: skip
