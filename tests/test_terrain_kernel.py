@@ -292,6 +292,15 @@ def test_update_without_support_or_measurement_leaves_weights() -> None:
     np.testing.assert_allclose(ess, 1.0 / np.sum(np.exp(2 * before)) / 50, rtol=1e-12)
 
 
+def test_weight_exponential() -> None:
+    # The filter's own exp for x <= 0 against numpy.exp: within 4 ulp down to
+    # -708, 0 below (where exp(x) < 3.3e-308, nothing against a largest weight of 1).
+    x = np.concatenate([-np.linspace(0.0, 708.0, 200_001), -np.geomspace(1e-300, 1.0, 1000), [-0.0]])
+    got = np.array([tk._exp_le0(v) for v in x[::7]])
+    np.testing.assert_allclose(got, np.exp(x[::7]), rtol=4 * 2.0**-52, atol=0)
+    assert [tk._exp_le0(v) for v in (-708.5, -1e4, -np.inf, np.nan)] == [0.0, 0.0, 0.0, 0.0]
+
+
 def _published_systematic(w: np.ndarray, u: float) -> np.ndarray:
     # Arulampalam et al. (2002), systematic resampling algorithm as published:
     # CDF c, u_j = (u + j) / N, advance i while u_j > c_i.

@@ -348,6 +348,43 @@ def pf_counter(tick, purpose, particle, axis):  # type: ignore[no-untyped-def]
     return c * _TWO + np.uint64(axis)
 
 
+_LOG2E = 1.4426950408889634
+_LN2_HI = 6.93147180369123816490e-01  # ln 2 split so that k * _LN2_HI is exact for |k| < 2**11
+_LN2_LO = 1.90821492927058770002e-10
+_POW2_NEG = 2.0 ** -np.arange(1023.0)  # 2**-k, k = 0 .. 1022 (normal numbers only)
+
+
+@numba.njit(**_JIT)
+def _exp_le0(x):  # type: ignore[no-untyped-def]
+    """``exp(x)`` for ``x <= 0`` (``-inf`` included), within a few ulp; 0 below -708 and for NaN.
+
+    Weights relative to the largest need no more, and unlike the library
+    ``exp`` this is branch-free, so loops over it vectorise. Cody & Waite
+    reduction ``x = k ln2 + r``, ``|r| <= ln2 / 2`` (``ln2`` in two parts),
+    the Taylor polynomial of ``exp(r)`` to degree 13 (remainder
+    ``0.35**14 / 14! < 5e-18``) and ``2**k`` from a table.
+    """
+    xc = x if x >= -708.0 else -708.0  # also for NaN, which gives 0
+    k = np.floor(xc * _LOG2E + 0.5)
+    r = (xc - k * _LN2_HI) - k * _LN2_LO
+    p = 1.6059043836821613e-10  # 1 / 13!
+    p = p * r + 2.08767569878681e-09
+    p = p * r + 2.505210838544172e-08
+    p = p * r + 2.755731922398589e-07
+    p = p * r + 2.7557319223985893e-06
+    p = p * r + 2.48015873015873e-05
+    p = p * r + 0.0001984126984126984
+    p = p * r + 0.001388888888888889
+    p = p * r + 0.008333333333333333
+    p = p * r + 0.041666666666666664
+    p = p * r + 0.16666666666666666
+    p = p * r + 0.5
+    p = p * r + 1.0
+    p = p * r + 1.0
+    e = p * _POW2_NEG[int(-k)]
+    return e if x >= -708.0 else 0.0
+
+
 # ---------------------------------------------------------------------------
 # seabed
 
@@ -573,13 +610,14 @@ def _weigh(particles, logw, z_depth_m, sd_m, gn, ge, grid, fill, w):  # type: ig
             top = v
     if not top > -np.inf:  # no particle has support: leave the weights alone
         return 0.0, 0.0
+    for j in range(m):  # a loop of its own so that it vectorises
+        v = w[j]
+        logw[j] = v
+        w[j] = _exp_le0(v - top)
     s = 0.0
     s2 = 0.0
     for j in range(m):
-        v = w[j]
-        logw[j] = v
-        e = np.exp(v - top)
-        w[j] = e
+        e = w[j]
         s += e
         s2 += e * e
     shift = top + np.log(s)
@@ -649,18 +687,17 @@ def _systematic(key, tick, particles, logw, w, s):  # type: ignore[no-untyped-de
 
 @numba.njit(**_JIT)
 def _unnormalised(logw, w):  # type: ignore[no-untyped-def]
-    """``w_j = exp(log w_j - max)`` (1 without an ``exp`` where equal to the max); returns the sum."""
+    """``w_j = exp(log w_j - max)``; returns their sum."""
     m = logw.shape[0]
     top = -np.inf
     for j in range(m):
         if logw[j] > top:
             top = logw[j]
+    for j in range(m):
+        w[j] = _exp_le0(logw[j] - top)
     s = 0.0
     for j in range(m):
-        d = logw[j] - top
-        e = 1.0 if d == 0.0 else np.exp(d)
-        w[j] = e
-        s += e
+        s += w[j]
     return s
 
 
