@@ -13,6 +13,7 @@ Prints milliseconds per step, trial-steps per second and the ratios::
 
     python benchmarks/bench_terrain_kernel.py                     # N = 1000, P = 500
     python benchmarks/bench_terrain_kernel.py --numpy-batch --steps 10
+    python benchmarks/bench_terrain_kernel.py --threads 1
 
 Speed is measured here, never asserted in unit tests. Times are medians over
 steps after a warm-up (the first call compiles or loads numba's cache).
@@ -89,7 +90,10 @@ def main() -> None:
     ap.add_argument("--steps", type=int, default=30)
     ap.add_argument("--reference-trials", type=int, default=20, help="trials run one at a time by the numpy filter")
     ap.add_argument("--numpy-batch", action="store_true", help="also time the numpy filter batched over all trials")
+    ap.add_argument("--threads", type=int, default=None, help="numba threads (default: all)")
     args = ap.parse_args()
+    if args.threads:
+        numba.set_num_threads(args.threads)
     n, p = args.trials, args.particles
     print(f"{platform.processor() or platform.machine()}, {os.cpu_count()} cores, numba {numba.__version__} "
           f"with {numba.get_num_threads()} threads ({numba.config.THREADING_LAYER} layer); "
