@@ -49,8 +49,8 @@ def _normals(key: int, n: int, counter0: int = 0) -> np.ndarray:
 
 
 def test_rng_u64_is_splitmix64() -> None:
-    # Reference outputs of splitmix64.c seeded with 0 (S. Vigna, prng.di.unimi.it;
-    # the values the xoshiro generators' seeding examples publish).
+    # First outputs of Vigna's splitmix64.c (prng.di.unimi.it) seeded with 0,
+    # the test vector quoted by independent SplitMix64 implementations.
     published = [0xE220A8397B1DCDAF, 0x6E789E6AA1B965F4, 0x06C45D188009454F, 0xF88BB8A8724C81EC]
     assert [int(tk.rng_u64(np.uint64(0), np.uint64(c))) for c in range(4)] == published
     # Any key, any position: output c of the generator seeded with the key.
@@ -181,7 +181,7 @@ def _check_grid(gn: np.ndarray, ge: np.ndarray, grid: np.ndarray, fill: float | 
         np.testing.assert_allclose(got, want, rtol=1e-13)
 
 
-def test_seabed_lookup_is_depth_at_bit_for_bit() -> None:
+def test_seabed_lookup_follows_depth_at() -> None:
     # Same convention as wavebench.sea.seabed.depth_at (searchsorted cell,
     # clipped; fill outside and at NaN): the same bits on non-uniform axes,
     # the same values to rounding on uniform ones (cell from one multiplication).
