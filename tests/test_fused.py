@@ -36,8 +36,8 @@ def test_fused_run_agrees_with_the_loop(name: str) -> None:
     spec, setup = _setup(name, 120.0, 4)
     fused = run_batch(spec, setup, engine="fused")
     loop = run_batch(spec, setup, engine="tick")
-    # The same equations; the craft's steps are compiled with reassociated sums in both, inlined into different
-    # kernels, so the last bits may differ: agreement to 1e-9 relative over the run (common practice, no source).
+    # The same equations, the same compiled craft steps and control period; the loop's numpy arithmetic around them
+    # may round differently in the last bits: agreement to 1e-9 relative over the run (common practice, no source).
     _same(fused, loop, rtol=1e-9)
     assert np.all(fused.metrics["distance_m"] > 100.0)
 

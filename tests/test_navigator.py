@@ -146,7 +146,7 @@ def test_mechanisation_follows_a_constant_turn() -> None:
 def runs():
     clear = run_campaign(load_spec(spec_text()), trials=8, batch_size=8, progress=False)
     # without the DVL the filter coasts through the outage on the IMU alone
-    outage = run_campaign(load_spec(spec_text("[[60.0, 120.0]]", dvl=False)), trials=8, batch_size=8, progress=False)
+    outage = run_campaign(load_spec(spec_text("[[40.0, 160.0]]", dvl=False)), trials=8, batch_size=8, progress=False)
     return clear, outage
 
 
@@ -189,17 +189,19 @@ def test_an_outage_grows_the_error_and_the_fix_flag_shows_it(runs) -> None:
     clear, outage = runs
     m = outage.metrics
     assert (m["ended"] != "failed").all()
-    ratio = m["nav_err_max_m"] / clear.metrics["nav_err_max_m"]
-    assert (ratio > 1.2).all() and ratio.median() > 2.0
-    # the metric is the error at the first control period after the window: t = 120 s is a recorded sample
+    # against the same trials with the fixes at the same moment (the filter coasts on a tactical IMU)
+    clear_at_end = clear.timeseries["nav_err_m"].sel(time=160.0).values
+    ratio = m["nav_err_outage_end_m"].to_numpy() / clear_at_end
+    assert (ratio > 1.0).all() and np.median(ratio) > 2.0, ratio
+    # the metric is the error at the first control period after the window: t = 160 s is a recorded sample
     ds = outage.timeseries
-    at_end = ds["nav_err_m"].sel(time=120.0).values
+    at_end = ds["nav_err_m"].sel(time=160.0).values
     np.testing.assert_allclose(m["nav_err_outage_end_m"].to_numpy(), at_end, rtol=1e-6)
     assert clear.metrics["nav_err_outage_end_m"].isna().all()
-    fix = ds["fix_ok"].sel(time=slice(61.0, 119.0)).values
+    fix = ds["fix_ok"].sel(time=slice(41.0, 159.0)).values
     assert (fix == 0.0).all()
-    assert (ds["fix_ok"].sel(time=slice(130.0, 190.0)).values[np.isfinite(ds["xte_m"].sel(time=slice(130.0, 190.0)))]
-            == 1.0).mean() > 0.95  # fmt: skip
+    after = ds["fix_ok"].sel(time=slice(165.0, 195.0)).values
+    assert (after[np.isfinite(after)] == 1.0).mean() > 0.95
 
 
 def test_dead_reckoning_error_grows_while_the_ekf_stays_bounded() -> None:

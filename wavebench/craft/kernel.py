@@ -16,10 +16,12 @@ with :func:`wavebench.craft.hull.derivative` and
 
 Reproducibility: the kernel gives the same bits for a trial alone, in any
 batch and however a run is split into calls, on a given machine. It is
-compiled for the host CPU with reassociated sums (``fastmath`` reassoc and
-contract, so the component loops vectorise); on a CPU with another vector
-width or without FMA the last bits can differ (numpy's own SIMD dispatch has
-the same property), which is why results record the machine they ran on.
+compiled without fast-math: with reassociated sums the last bits depended
+on how the compiler inlined the kernel into its caller, so a run compiled
+afresh and the same run loaded from numba's cache could differ (the
+vectorised component loops were about 15 % faster). On another CPU the
+transcendental functions of the C library may round differently, which is
+why results record the machine they ran on.
 
 Model choices shared by both
 ----------------------------
@@ -349,7 +351,7 @@ def _wrap(a: float) -> float:
     return a - _TWO_PI * np.floor((a + np.pi) / _TWO_PI)
 
 
-@numba.njit(inline="always", cache=True, fastmath={"reassoc", "contract"})
+@numba.njit(inline="always", cache=True)
 def _drift_eval(
     x: float, y: float, t: float, om: np.ndarray, kc: np.ndarray, ks: np.ndarray, ep: np.ndarray,
     w: np.ndarray, cbuf: np.ndarray, sbuf: np.ndarray,
@@ -432,7 +434,7 @@ def _weights(w: np.ndarray, beta: np.ndarray, scale: np.ndarray, roots: np.ndarr
             w[d, j] = scale[j] * (roots[k, d] * (1.0 - f) + roots[k + 1, d] * f)
 
 
-@numba.njit(inline="always", cache=True, fastmath={"reassoc", "contract"})
+@numba.njit(inline="always", cache=True)
 def advance_one(x, y, psi, u, v, r, pw, h, om, kc, ks, ep, scale, beta, w, cb, sb, roots, tx0, ty0, tn0, vcn, vce,
                 pil_row, use_pilot, step0, dt, n_steps, tol, midpoint):  # fmt: skip
     """One trial's ``n_steps`` RK4 steps: the body of :func:`advance`'s kernel, shared with the fused run.
@@ -495,7 +497,7 @@ def advance_one(x, y, psi, u, v, r, pw, h, om, kc, ks, ep, scale, beta, w, cb, s
     return x, y, psi, u, v, r, pw
 
 
-@numba.njit(cache=True, fastmath={"reassoc", "contract"})
+@numba.njit(cache=True)
 def advance_trial(x, y, psi, u, v, r, pw, h, om, kc, ks, ep, scale, beta, w, cb, sb, roots, tx0, ty0, tn0, vcn, vce,
                   pil_row, use_pilot, step0, dt, n_steps, tol, midpoint):  # fmt: skip
     """:func:`advance_one` compiled with the batch kernel's floating-point flags, to call from other kernels."""
@@ -503,13 +505,13 @@ def advance_trial(x, y, psi, u, v, r, pw, h, om, kc, ks, ep, scale, beta, w, cb,
                        vce, pil_row, use_pilot, step0, dt, n_steps, tol, midpoint)  # fmt: skip
 
 
-@numba.njit(cache=True, fastmath={"reassoc", "contract"})
+@numba.njit(cache=True)
 def weights_at(w: np.ndarray, beta: np.ndarray, scale: np.ndarray, roots: np.ndarray, psi: float) -> None:
     """Newman weights at heading ``psi`` into ``w`` (6, K), with the batch kernel's floating-point flags."""
     _weights(w, beta, scale, roots, psi)
 
 
-@numba.njit(parallel=True, cache=True, fastmath={"reassoc", "contract"})
+@numba.njit(parallel=True, cache=True)
 def _advance_kernel(eta, nu, psi_w, tau, cur, hull, waves, roots, pil, use_pilot, step0, dt, n_steps, tol, midpoint,
                     wbuf, wpsi, use_ws):  # fmt: skip
     n = eta.shape[0]

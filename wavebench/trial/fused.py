@@ -74,8 +74,9 @@ def _run_block(
     abort_on, abort_m, line_legs, run_in, run_speed, run_rate,
     count_s, sum_xte2, sum_head2, sum_speed2, distance, energy, min_dukc, done_time, fail_code, fail_time, grounded,
     xte_abs, line_abs, line_count, line_sum2, rec, run_depth,
-    nav_on, cfg, par, beacons, gnss_noise, gnss_valid, head_noise, head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid,
-    ngn, nge, ngrid, nfill, imu_err, nx, nP, hist, diag, nav_err_abs, nees_sum, nees_n, outage_end, outage_ticks,
+    nav_on, nx, nP, hist, diag, particles, logw, pf_mean, pf_cov, cfg, par, beacons, gnss_noise, gnss_valid,
+    head_noise, head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid, alt_noise, alt_valid, depth_noise, depth_valid,
+    keys, ngn, nge, ngrid, nfill, imu_err, nav_err_abs, nees_sum, nees_n, outage_end, outage_ticks,
 ):  # fmt: skip
     n = eta.shape[0]
     no_pilot = np.zeros(7)
@@ -116,8 +117,9 @@ def _run_block(
                 ce = 0.0 + sp * np.sin(ang)
             en, ee, epsi, eu, ev, er = x, y, psi, u, v, r
             if nav_on:
-                nav_update_one(i, tick, x, y, psi, u, v, r, nx, nP, hist, diag, cfg, par, beacons, gnss_noise,
-                               gnss_valid, head_noise, head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid, ngn, nge,
+                nav_update_one(i, tick, x, y, psi, u, v, r, nx, nP, hist, diag, particles, logw, pf_mean, pf_cov, cfg,
+                               par, beacons, gnss_noise, gnss_valid, head_noise, head_valid, dvl_noise, dvl_valid,
+                               ac_noise, ac_valid, alt_noise, alt_valid, depth_noise, depth_valid, keys, ngn, nge,
                                ngrid, nfill, work)  # fmt: skip
                 en, ee, epsi, eu, ev, er = nx[i, 0], nx[i, 1], nx[i, 2], nx[i, 3], nx[i, 4], diag[i, nk.D_RATE]
             control_one(i, en, ee, epsi, eu, ev, er, x, y, psi, u, cn, ce, wp, count, los, legs, pil, ap, layout,
@@ -316,16 +318,14 @@ def run_fused(
 
         navrun = NavRun(setup.nav, nu)
         acc.enable_nav(n_ticks, outage_end_ticks(setup.nav.fix_outages_s, period, n_ticks))
-        nav_args = (setup.nav.cfg, setup.nav.par, *setup.nav.arrays, setup.nav.imu_err, navrun.x, navrun.P,
-                    navrun.hist, navrun.diag, acc.nav_err_abs, acc.nees_sum, acc.nees_n, acc.outage_end,
-                    acc.outage_ticks)  # fmt: skip
+        pack = setup.nav
     else:  # placeholders of the same types, so the kernel compiles once
-        one, ok = np.zeros((1, 1)), np.ones((1, 1), dtype=bool)
-        nav_args = (np.ones(nk.N_CFG, dtype=np.int64), np.zeros((n, nk.N_PAR)), np.zeros((1, 3)), np.zeros((1, 1, 2)),
-                    ok, one, ok, np.zeros((1, 1, 2)), ok, np.zeros((1, 1, 1)), ok, np.zeros(2), np.zeros(2),
-                    np.zeros((2, 2)), np.nan, np.zeros((1, 1, 3)), np.zeros((1, nk.NX)), np.zeros((1, nk.NX, nk.NX)),
-                    np.zeros((1, 1, 6)), np.zeros((1, nk.N_DIAG)), one, np.zeros(1), np.zeros(1), np.zeros(1),
-                    np.zeros(0, dtype=np.int64))  # fmt: skip
+        from .navigator import placeholder_nav
+
+        pack, navrun = placeholder_nav(n, nu)
+    nav_err_abs = acc.nav_err_abs if nav_on else np.zeros((1, 1))
+    nav_args = (*navrun.state, pack.cfg, pack.par, *pack.arrays, pack.imu_err, nav_err_abs, acc.nees_sum,
+                acc.nees_n, acc.outage_end, acc.outage_ticks)  # fmt: skip
     run_in = np.ascontiguousarray(setup.line_run_in_m, dtype=float)
     ticks_run = 0
     for tick0 in range(0, n_ticks, BLOCK_TICKS):

@@ -19,15 +19,20 @@ control period) is, with ``r = w - b_g``::
     v'     = v + T (f_y - b_y - r u)
     north' = north + T/2 (u cos psi - v sin psi + u' cos psi' - v' sin psi')
     east'  = east  + T/2 (u sin psi + v cos psi + u' sin psi' + v' cos psi')
-    b'     = phi b            (first-order Gauss-Markov, phi = exp(-T / tau))
+    b'     = b                (random walk)
 
 (Euler steps for heading and velocity, the trapezoidal rule for position,
 the Jacobian of the Euler form at the prior; the body-frame kinematics ``f = dnu/dt + omega x nu`` of e.g.
 Fossen 2021, ch. 2 and 14, reduced to the horizontal plane.) Process noise
 comes from the IMU's own figures: angle and velocity random walk densities
-squared times ``T`` on heading and velocities, the Gauss-Markov bias
-variance ``sigma^2 (1 - phi^2)`` plus the rate random walk on the biases.
-Scale-factor errors are not estimated.
+squared times ``T`` on heading and velocities; on the biases the drive of
+the in-run Gauss-Markov part, ``sigma^2 (1 - phi^2)`` with
+``phi = exp(-T / tau)``, plus the rate random walk. The bias states are
+random walks, not decaying Gauss-Markov states, because most of a MEMS
+bias is the turn-on constant, which a decaying state would pull towards
+zero between fixes. Scale-factor errors are not estimated: they enter as
+white noise on each period's increment, which understates them in long
+turns.
 
 Measurements, each a sequence of scalar updates (``P - P h h' P / s``,
 which equals the Kalman vector update for a diagonal noise covariance): GNSS
@@ -43,7 +48,14 @@ never more than :data:`MAX_REJECTS` in a row, so a filter that drifted
 through an outage cannot lock itself out (common practice, no source).
 
 Dead reckoning (``navigator = "dead_reckoning"``) is the same filter with
-the position updates switched off.
+the position updates switched off. Terrain-aided navigation
+(``navigator = "terrain"``) is dead reckoning whose position comes from a
+particle filter (:mod:`wavebench.navigation.terrain_kernel`): the cloud
+moves by the filter's displacement over each period plus a random-walk
+spread and is weighted by the measured seabed depth, the depth sensor's
+reading plus the altimeter's range (point beam: the footprint is not
+modelled here), against the seabed grid; its mean and covariance replace
+the filter's position and position covariance (cross-covariances zeroed).
 """
 
 from __future__ import annotations
@@ -53,6 +65,7 @@ import math
 import numba
 import numpy as np
 
+from ..navigation.terrain_kernel import pf_step
 from .compiled import wrap_scalar
 
 __all__ = [
@@ -96,11 +109,12 @@ P_AC_SD, P_AC_MAX, P_AC_SCALE = 21, 22, 23
 P_Q_GYRO, P_Q_ACC, P_BG_PHI, P_BG_Q, P_BA_PHI, P_BA_Q = 24, 25, 26, 27, 28, 29
 P_GSF, P_ASF_X, P_ASF_Y = 30, 31, 32
 P_SF_SD_G, P_SF_SD_A = 33, 34
-N_PAR = 35
+P_PF_SD, P_PF_RESAMPLE = 35, 36
+N_PAR = 37
 
 # --- per-trial diagnostics (float64, shape (n, N_DIAG)) -----------------------------------
-D_NIS, D_FIX_OK, D_NEES, D_RATE, D_REJECTS, D_DN, D_DE, D_GYRO, D_FX, D_FY, D_NIS_SUM, D_NIS_N = range(12)
-N_DIAG = 12
+D_NIS, D_FIX_OK, D_NEES, D_RATE, D_REJECTS, D_DN, D_DE, D_GYRO, D_FX, D_FY, D_NIS_SUM, D_NIS_N, D_DEPTH = range(13)
+N_DIAG = 13
 
 _jit = numba.njit(cache=True, error_model="numpy")
 
@@ -204,9 +218,9 @@ def nav_nees(x, P, tn, te, tpsi, tu, tv, work):
 
 
 @_jit
-def nav_update_one(i, tick, tn, te, tpsi, tu, tv, tr, x, P, hist, diag, cfg, par, beacons, gnss_noise, gnss_valid,
-                   head_noise, head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid, gn, ge, grid, fill,
-                   work):  # fmt: skip
+def nav_update_one(i, tick, tn, te, tpsi, tu, tv, tr, x, P, hist, diag, particles, logw, pf_mean, pf_cov, cfg, par,
+                   beacons, gnss_noise, gnss_valid, head_noise, head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid,
+                   alt_noise, alt_valid, depth_noise, depth_valid, keys, gn, ge, grid, fill, work):  # fmt: skip
     """Sample the sensors due at control period ``tick`` from trial ``i``'s truth and fuse them.
 
     ``tn .. tr`` is the true pose and velocity now; it is stored in the
@@ -332,6 +346,39 @@ def nav_update_one(i, tick, tn, te, tpsi, tu, tv, tr, x, P, hist, diag, cfg, par
                 h1[0] = dn / rho
                 h1[1] = de / rho
                 scalar_update(xi, Pi, h1, z - rho, sd * sd, ph)
+    # --- terrain-aided position: the particle cloud moved by the filter's dead-reckoned displacement, weighted
+    # by the measured seabed depth (depth sensor + altimeter); its mean and covariance replace the position
+    if mode == MODE_TERRAIN:
+        ev = cfg[C_EV_DEPTH]
+        lat = cfg[C_LAT_DEPTH]
+        if cfg[C_DEPTH] and tick % ev == 0 and tick >= lat:
+            j = tick // ev
+            if depth_valid[i, j]:
+                diag[i, D_DEPTH] = par[i, P_RUN_DEPTH] + par[i, P_DEPTH_SD] * depth_noise[i, j]
+        ev = cfg[C_EV_ALT]
+        lat = cfg[C_LAT_ALT]
+        has = False
+        z = 0.0
+        if cfg[C_ALT] and tick % ev == 0 and tick >= lat and np.isfinite(diag[i, D_DEPTH]):
+            j = tick // ev
+            if alt_valid[i, j]:
+                s = (tick - lat) % H
+                alt_t = depth_one(gn, ge, grid, fill, hist[i, s, 0], hist[i, s, 1]) - par[i, P_RUN_DEPTH]
+                if alt_t >= par[i, P_ALT_MIN] and alt_t <= par[i, P_ALT_MAX]:
+                    has = True
+                    z = diag[i, D_DEPTH] + alt_t + par[i, P_ALT_SD] * alt_noise[i, j]
+        sd_z = math.sqrt(par[i, P_ALT_SD] ** 2 + par[i, P_DEPTH_SD] ** 2)
+        dn = diag[i, D_DN] if tick > 0 else 0.0
+        de = diag[i, D_DE] if tick > 0 else 0.0
+        pf_step(keys[i], tick, particles[i], logw[i], dn, de, par[i, P_PF_SD], z, max(sd_z, 1e-3), has,
+                par[i, P_PF_RESAMPLE], gn, ge, grid, fill, pf_mean[i], pf_cov[i])  # fmt: skip
+        xi[0], xi[1] = pf_mean[i, 0], pf_mean[i, 1]
+        for a in range(nx):
+            Pi[0, a] = 0.0
+            Pi[1, a] = 0.0
+            Pi[a, 0] = 0.0
+            Pi[a, 1] = 0.0
+        Pi[0, 0], Pi[0, 1], Pi[1, 0], Pi[1, 1] = pf_cov[i, 0, 0], pf_cov[i, 0, 1], pf_cov[i, 1, 0], pf_cov[i, 1, 1]
     diag[i, D_NEES] = nav_nees(xi, Pi, tn, te, tpsi, tu, tv, scratch)
 
 
@@ -434,16 +481,18 @@ WORK = 2 * NX * NX + 64
 
 
 @numba.njit(parallel=True, cache=True, error_model="numpy")
-def nav_update_batch(tick, eta, nu, active, x, P, hist, diag, cfg, par, beacons, gnss_noise, gnss_valid, head_noise,
-                     head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid, gn, ge, grid, fill):  # fmt: skip
+def nav_update_batch(tick, eta, nu, active, x, P, hist, diag, particles, logw, pf_mean, pf_cov, cfg, par, beacons,
+                     gnss_noise, gnss_valid, head_noise, head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid,
+                     alt_noise, alt_valid, depth_noise, depth_valid, keys, gn, ge, grid, fill):  # fmt: skip
     """:func:`nav_update_one` for every active trial (the Python loop's call)."""
     work = np.empty((eta.shape[0], WORK))  # per trial, outside the parallel loop (see fused.py)
     for i in numba.prange(eta.shape[0]):
         if not active[i]:
             continue
         nav_update_one(i, tick, eta[i, 0], eta[i, 1], eta[i, 2], nu[i, 0], nu[i, 1], nu[i, 2], x, P, hist, diag,
-                       cfg, par, beacons, gnss_noise, gnss_valid, head_noise, head_valid, dvl_noise, dvl_valid,
-                       ac_noise, ac_valid, gn, ge, grid, fill, work[i])  # fmt: skip
+                       particles, logw, pf_mean, pf_cov, cfg, par, beacons, gnss_noise, gnss_valid, head_noise,
+                       head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid, alt_noise, alt_valid, depth_noise,
+                       depth_valid, keys, gn, ge, grid, fill, work[i])  # fmt: skip
 
 
 @numba.njit(parallel=True, cache=True, error_model="numpy")

@@ -40,6 +40,7 @@ from numpy.typing import NDArray
 
 from ..core.errors import ParameterError
 from ..core.streams import TrialStreams
+from ..navigation.terrain_kernel import pf_init_batch
 from ..sea.seabed import SeabedGrid
 from ..sensors.imu import DEG_PER_H, GM_SIGMA_PER_BIAS_INSTABILITY, imu_errors
 from ..sensors.noise import markov_dropout_mask, outage_mask, white_sequence
@@ -48,7 +49,7 @@ from ..spec.schema import Spec
 from . import nav_kernel as nk
 from .signals import NavState
 
-__all__ = ["NAVIGATING", "P0_SD", "NavPack", "NavRun", "build_nav_pack"]
+__all__ = ["NAVIGATING", "P0_SD", "NavPack", "NavRun", "build_nav_pack", "placeholder_nav"]
 
 FloatArray = NDArray[np.float64]
 
@@ -83,6 +84,10 @@ class NavPack:
     fix_outages_s : tuple of (start_s, end_s)
         The GNSS sensor's scheduled outage windows (for the outage-end metric).
     mode : str
+    particles : int
+        Particles per trial of the terrain navigator (1 otherwise).
+    initial_sd_m : float
+        Spread of the terrain navigator's initial cloud around the start [m].
     """
 
     cfg: NDArray[np.int64]
@@ -93,6 +98,8 @@ class NavPack:
     p0: FloatArray
     fix_outages_s: tuple
     mode: str
+    particles: int = 1
+    initial_sd_m: float = 0.0
 
 
 def _drawn(model: Any, draws: dict[str, FloatArray], prefix: str) -> Any:
@@ -150,6 +157,8 @@ def build_nav_pack(spec: Spec, trials: TrialStreams, draws: dict[str, FloatArray
     head_noise, head_valid = one, one_b
     dvl_noise, dvl_valid = np.zeros((n, 1, 2)), one_b
     ac_noise, ac_valid = np.zeros((n, 1, 1)), one_b
+    alt_noise, alt_valid = one, one_b
+    depth_noise, depth_valid = one, one_b
     beacons = np.zeros((1, 3))
     imu_err = np.zeros((n, 1, 3))
     fix_outages: tuple = ()
@@ -186,7 +195,9 @@ def build_nav_pack(spec: Spec, trials: TrialStreams, draws: dict[str, FloatArray
                 sig = bi * GM_SIGMA_PER_BIAS_INSTABILITY
                 tau = np.asarray(tc, dtype=float)
                 phi = np.where(np.isfinite(tau), np.exp(-period / np.where(np.isfinite(tau), tau, 1.0)), 1.0)
-                par[:, phi_i] = phi
+                # the filter carries each bias as a random walk (phi = 1): the turn-on part is a constant that a
+                # decaying Gauss-Markov state would pull towards zero; the in-run part's drive is its noise
+                par[:, phi_i] = 1.0
                 par[:, q_i] = sig**2 * (1.0 - phi**2) + rrw**2 * period
                 spread = np.sqrt(ton**2 + sig**2)
                 sd0_bias[:, col] = spread
@@ -227,9 +238,13 @@ def build_nav_pack(spec: Spec, trials: TrialStreams, draws: dict[str, FloatArray
             par[:, nk.P_DVL_LX], par[:, nk.P_DVL_LY] = m.lever_x_m, m.lever_y_m
         elif s.kind == "altimeter":
             cfg[nk.C_ALT], cfg[nk.C_EV_ALT], cfg[nk.C_LAT_ALT] = 1, every, lat
+            alt_noise = white_sequence(trials, f"{purpose}.noise", n_samples, 1.0)
+            alt_valid = _validity(trials, name, s, n_samples, every * period)
             par[:, nk.P_ALT_SD], par[:, nk.P_ALT_MIN], par[:, nk.P_ALT_MAX] = m.noise_sd_m, m.min_range_m, m.max_range_m
         elif s.kind == "depth":
             cfg[nk.C_DEPTH], cfg[nk.C_EV_DEPTH], cfg[nk.C_LAT_DEPTH] = 1, every, lat
+            depth_noise = white_sequence(trials, f"{purpose}.noise", n_samples, 1.0)
+            depth_valid = _validity(trials, name, s, n_samples, every * period)
             par[:, nk.P_DEPTH_SD] = np.asarray(m.noise_fs_fraction) * np.asarray(m.full_scale_m)
         elif s.kind == "acoustic":
             cfg[nk.C_AC], cfg[nk.C_EV_AC], cfg[nk.C_LAT_AC] = 1, every, lat
@@ -257,11 +272,20 @@ def build_nav_pack(spec: Spec, trials: TrialStreams, draws: dict[str, FloatArray
         fill = np.array(np.nan if seabed.fill_depth_m is None else float(seabed.fill_depth_m))
     else:
         gn, ge, grid, fill = np.zeros(2), np.zeros(2), np.zeros((2, 2)), np.array(np.nan)
+    terrain = spec.stack.terrain
+    keys = np.zeros(n, dtype=np.uint64)
+    particles = 1
+    if mode == "terrain":
+        keys = trials.draw("navigator.terrain.key", lambda g: g.integers(0, 2**63, dtype=np.uint64))
+        par[:, nk.P_PF_SD] = terrain.process_sd_m_per_sqrt_s * math.sqrt(period)
+        par[:, nk.P_PF_RESAMPLE] = terrain.resample_below
+        particles = int(terrain.particles)
     arrays = tuple(np.ascontiguousarray(a) for a in (
         beacons, gnss_noise, gnss_valid, head_noise, head_valid, dvl_noise, dvl_valid, ac_noise, ac_valid,
-        gn, ge, grid))  # fmt: skip
+        alt_noise, alt_valid, depth_noise, depth_valid, keys, gn, ge, grid))  # fmt: skip
     return NavPack(cfg=cfg, par=par, arrays=(*arrays, float(fill)), imu_err=np.ascontiguousarray(imu_err),
-                   x0=x0, p0=p0, fix_outages_s=fix_outages, mode=mode)  # fmt: skip
+                   x0=x0, p0=p0, fix_outages_s=fix_outages, mode=mode, particles=particles,
+                   initial_sd_m=float(terrain.initial_sd_m) if mode == "terrain" else 0.0)  # fmt: skip
 
 
 class NavRun:
@@ -285,12 +309,29 @@ class NavRun:
         self.diag[:, nk.D_FIX_OK] = np.nan
         self.diag[:, nk.D_NEES] = np.nan
         self.diag[:, nk.D_RATE] = nu0[:, 2]
+        self.diag[:, nk.D_DEPTH] = np.nan
+        m = pack.particles
+        rows = n if pack.mode == "terrain" else 1
+        self.particles = np.zeros((rows, m, 2))
+        self.logw = np.zeros((rows, m))
+        self.pf_mean = np.zeros((rows, 2))
+        self.pf_cov = np.zeros((rows, 2, 2))
+        if pack.mode == "terrain":
+            keys = pack.arrays[13]
+            pf_init_batch(keys, self.particles, self.logw, np.ascontiguousarray(pack.x0[:, 0]),
+                          np.ascontiguousarray(pack.x0[:, 1]), pack.initial_sd_m)  # fmt: skip
+            self.P[:, 0, 0] = self.P[:, 1, 1] = pack.initial_sd_m**2
+
+    @property
+    def state(self) -> tuple:
+        """The mutable filter arrays in the order the kernels take them."""
+        return (self.x, self.P, self.hist, self.diag, self.particles, self.logw, self.pf_mean, self.pf_cov)
 
     def update(self, tick: int, eta: FloatArray, nu: FloatArray, active: NDArray[np.bool_]) -> None:
         """Sample and fuse the sensors due at control period ``tick`` (truth ``eta``, ``nu``)."""
         p = self.pack
-        nk.nav_update_batch(tick, np.ascontiguousarray(eta), np.ascontiguousarray(nu), active, self.x, self.P,
-                            self.hist, self.diag, p.cfg, p.par, *p.arrays)  # fmt: skip
+        nk.nav_update_batch(tick, np.ascontiguousarray(eta), np.ascontiguousarray(nu), active, *self.state, p.cfg,
+                            p.par, *p.arrays)  # fmt: skip
 
     def predict(self, tick: int, period: float, eta0: FloatArray, nu0: FloatArray, eta1: FloatArray, nu1: FloatArray,
                 active: NDArray[np.bool_]) -> None:  # fmt: skip
@@ -309,3 +350,19 @@ class NavRun:
                         surge_mps=x[:, 3].copy(), sway_mps=x[:, 4].copy(),
                         yaw_rate_rad_s=self.diag[:, nk.D_RATE].copy(), course_rad=np.arctan2(ve, vn),
                         sog_mps=np.hypot(vn, ve))  # fmt: skip
+
+
+def placeholder_nav(n_trials: int, nu0: FloatArray) -> tuple[NavPack, NavRun]:
+    """A navigator pack and state of the right array types that no kernel reads (truth navigation).
+
+    The fused kernel takes the navigator's arrays whether or not a navigator
+    runs; passing these keeps one compiled specialisation for both cases.
+    """
+    one, ok = np.zeros((1, 1)), np.ones((1, 1), dtype=bool)
+    arrays = (np.zeros((1, 3)), np.zeros((1, 1, 2)), ok, one, ok, np.zeros((1, 1, 2)), ok, np.zeros((1, 1, 1)), ok,
+              one, ok, one, ok, np.zeros(1, dtype=np.uint64), np.zeros(2), np.zeros(2), np.zeros((2, 2)),
+              math.nan)  # fmt: skip
+    pack = NavPack(cfg=np.ones(nk.N_CFG, dtype=np.int64), par=np.zeros((1, nk.N_PAR)), arrays=arrays,
+                   imu_err=np.zeros((1, 1, 3)), x0=np.zeros((1, nk.NX)), p0=np.zeros((1, nk.NX, nk.NX)),
+                   fix_outages_s=(), mode="truth")  # fmt: skip
+    return pack, NavRun(pack, nu0[:1])
