@@ -47,11 +47,21 @@ def _print_summary(result, out: Path) -> None:
     print("CAUTION: " + CAUTION)
 
 
+def _spec_path(name: str) -> Path:
+    """A spec file, or the file of a built-in scenario given by name."""
+    from .spec.io import example_spec_names, example_spec_path
+
+    path = Path(name)
+    if not path.exists() and name in example_spec_names():
+        return example_spec_path(name)
+    return path
+
+
 def _run(args: argparse.Namespace) -> int:
     from .campaign import run_campaign, write_store
     from .spec.io import load_spec
 
-    spec = load_spec(Path(args.spec))
+    spec = load_spec(_spec_path(args.spec), args.set or ())
     result = run_campaign(spec, trials=args.trials, seed=args.seed, batch_size=args.batch_size,
                           record=not args.no_record, progress=not args.quiet)  # fmt: skip
     out = write_store(result, args.out)
@@ -81,7 +91,7 @@ def _demo(args: argparse.Namespace) -> int:
             spec = load_spec(example_spec_path(name))
             print(f"{name:<20} {spec.scenario.name} ({spec.craft.build().name}, {spec.campaign.trials} trials)")
         return 0
-    spec = load_spec(example_spec_path(args.name))
+    spec = load_spec(example_spec_path(args.name), args.set or ())
     out = Path(args.out or f"wavebench-demo-{args.name}")
     result = run_campaign(spec, trials=args.trials, progress=not args.quiet)
     write_store(result, out)
@@ -135,7 +145,7 @@ def build_parser() -> argparse.ArgumentParser:
 
     run = sub.add_parser("run", help="run a campaign from a spec file into a store folder",
                          description="Run a Monte Carlo campaign from a TOML spec; write a store folder.")  # fmt: skip
-    run.add_argument("spec", help="the spec file (TOML)")
+    run.add_argument("spec", help="the spec file (TOML), or a built-in scenario's name")
     run.add_argument("--out", required=True, metavar="DIR", help="store folder to write")
     run.add_argument("--trials", type=int, help="number of trials (overrides the spec)")
     run.add_argument("--seed", type=int, help="campaign seed (overrides the spec)")
@@ -143,6 +153,9 @@ def build_parser() -> argparse.ArgumentParser:
     run.add_argument("--no-record", action="store_true", help="keep metrics only, no time series")
     run.add_argument("--report", action="store_true", help="also write DIR/report.html")
     run.add_argument("--quiet", action="store_true", help="no progress bar")
+    run.add_argument("--set", action="append", metavar="PATH=VALUE",
+                     help="change a spec field before the run, e.g. --set stack.navigator=dead_reckoning "
+                          "(repeatable; VALUE is a TOML value or a bare word)")  # fmt: skip
     run.set_defaults(func=_run)
 
     rep = sub.add_parser("report", help="write the HTML report of a store folder",
@@ -158,6 +171,7 @@ def build_parser() -> argparse.ArgumentParser:
     demo.add_argument("--trials", type=int, help="number of trials (default: the scenario's)")
     demo.add_argument("--list", action="store_true", help="list the built-in scenarios")
     demo.add_argument("--quiet", action="store_true", help="no progress bar")
+    demo.add_argument("--set", action="append", metavar="PATH=VALUE", help="change a spec field (as for 'run')")
     demo.set_defaults(func=_demo)
 
     ex = sub.add_parser("example", help="print a built-in scenario's spec, or a demo craft inline",

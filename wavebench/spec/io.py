@@ -17,6 +17,7 @@ import hashlib
 import json
 import os
 import sys
+from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
@@ -33,7 +34,7 @@ if sys.version_info >= (3, 11):
 else:  # pragma: no cover
     import tomli as tomllib
 
-__all__ = ["dump_spec", "example_spec_names", "example_spec_path", "load_spec", "save_spec", "spec_hash"]
+__all__ = ["apply_settings", "dump_spec", "example_spec_names", "example_spec_path", "load_spec", "save_spec", "spec_hash"]
 
 _SPECS_DIR = Path(__file__).resolve().parent.parent / "data" / "specs"
 
@@ -51,7 +52,59 @@ def example_spec_path(name: str) -> Path:
     return _SPECS_DIR / f"{name}.toml"
 
 
-def load_spec(source: str | os.PathLike[str]) -> Spec:
+def apply_settings(data: dict[str, Any], settings: Sequence[str]) -> dict[str, Any]:
+    """Set fields of a spec's TOML data from ``"dotted.path=value"`` strings (a what-if from the command line).
+
+    Parameters
+    ----------
+    data : dict
+        The parsed TOML document (changed in place and returned).
+    settings : sequence of str
+        Each ``"table.sub.key=value"``; the value is read as a TOML value
+        (``3.0``, ``"ekf"``, ``[[0.0, 10.0]]``, ``{ uniform = [1.0, 2.0] }``)
+        or, if it is not one, as a bare string (``dead_reckoning``); an empty
+        value removes the field or table (``stack.terrain=``). Missing tables
+        are created; the schema checks the result as usual.
+
+    Returns
+    -------
+    dict
+
+    Raises
+    ------
+    ParameterError
+        For a setting without ``=`` or with an empty path, or a path through a
+        value that is not a table.
+
+    Examples
+    --------
+    >>> apply_settings({"stack": {"navigator": "truth"}}, ["stack.navigator=ekf", "campaign.trials=20"])
+    {'stack': {'navigator': 'ekf'}, 'campaign': {'trials': 20}}
+    >>> apply_settings({"stack": {"navigator": "terrain", "terrain": {}}}, ["stack.navigator=dead_reckoning",
+    ...                "stack.terrain="])
+    {'stack': {'navigator': 'dead_reckoning'}}
+    """
+    for item in settings:
+        path, sep, raw = item.partition("=")
+        keys = [k.strip() for k in path.split(".")]
+        if not sep or not all(keys):
+            raise ParameterError("--set", item, "must be dotted.path=value, e.g. stack.navigator=ekf")
+        node = data
+        for depth, key in enumerate(keys[:-1]):
+            node = node.setdefault(key, {})
+            if not isinstance(node, dict):
+                raise ParameterError("--set", item, f"'{'.'.join(keys[: depth + 1])}' is a value, not a table")
+        if not raw.strip():
+            node.pop(keys[-1], None)
+            continue
+        try:
+            node[keys[-1]] = tomllib.loads(f"v = {raw.strip()}")["v"]
+        except tomllib.TOMLDecodeError:
+            node[keys[-1]] = raw.strip()
+    return data
+
+
+def load_spec(source: str | os.PathLike[str], settings: Sequence[str] = ()) -> Spec:
     """Load and validate a spec.
 
     Parameters
@@ -59,6 +112,9 @@ def load_spec(source: str | os.PathLike[str]) -> Spec:
     source : str or path-like
         A path (``os.PathLike``, or a one-line string ending in ``.toml``) or
         the TOML text itself.
+    settings : sequence of str, optional
+        ``"dotted.path=value"`` changes applied before validation (see
+        :func:`apply_settings`).
 
     Returns
     -------
@@ -87,7 +143,7 @@ def load_spec(source: str | os.PathLike[str]) -> Spec:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise ParameterError(where, "<text>", f"is not valid TOML: {exc}") from None
-    return spec_from_data(data)
+    return spec_from_data(apply_settings(data, settings))
 
 
 def _literal(value: Any) -> str:

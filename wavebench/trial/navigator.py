@@ -268,7 +268,7 @@ def build_nav_pack(spec: Spec, trials: TrialStreams, draws: dict[str, FloatArray
     p0 = np.zeros((n, nk.NX, nk.NX))
     p0[:, np.arange(nk.NX), np.arange(nk.NX)] = sd0**2
     if seabed is not None:
-        gn, ge, grid = (np.ascontiguousarray(a, dtype=float) for a in (seabed.north_m, seabed.east_m, seabed.depth_m))
+        gn, ge, grid = (np.array(a, dtype=float) for a in (seabed.north_m, seabed.east_m, seabed.depth_m))  # writable
         fill = np.array(np.nan if seabed.fill_depth_m is None else float(seabed.fill_depth_m))
     else:
         gn, ge, grid, fill = np.zeros(2), np.zeros(2), np.zeros((2, 2)), np.array(np.nan)
@@ -319,7 +319,7 @@ class NavRun:
         if pack.mode == "terrain":
             keys = pack.arrays[13]
             pf_init_batch(keys, self.particles, self.logw, np.ascontiguousarray(pack.x0[:, 0]),
-                          np.ascontiguousarray(pack.x0[:, 1]), pack.initial_sd_m)  # fmt: skip
+                          np.ascontiguousarray(pack.x0[:, 1]), np.full(n, pack.initial_sd_m))  # fmt: skip
             self.P[:, 0, 0] = self.P[:, 1, 1] = pack.initial_sd_m**2
 
     @property
