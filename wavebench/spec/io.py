@@ -34,7 +34,15 @@ if sys.version_info >= (3, 11):
 else:  # pragma: no cover
     import tomli as tomllib
 
-__all__ = ["apply_settings", "dump_spec", "example_spec_names", "example_spec_path", "load_spec", "save_spec", "spec_hash"]
+__all__ = [
+    "apply_settings",
+    "dump_spec",
+    "example_spec_names",
+    "example_spec_path",
+    "load_spec",
+    "save_spec",
+    "spec_hash",
+]
 
 _SPECS_DIR = Path(__file__).resolve().parent.parent / "data" / "specs"
 
