@@ -13,6 +13,11 @@ figure counts the steps actually simulated) and the ratio::
 
     python benchmarks/bench_campaign.py                      # 1000 trials, batch 1000
     python benchmarks/bench_campaign.py --trials 200 --batch-size 100
+    python benchmarks/bench_campaign.py --ekf                # + GNSS, compass, IMU and the EKF navigator
+
+With ``--ekf`` the per-trial reference is the Python loop with the numpy
+blocks for guide and pilot and the navigator's compiled per-trial step
+(there is no numpy twin of the navigator in the loop).
 
 Speed is measured here, never asserted in unit tests.
 """
@@ -39,14 +44,28 @@ def _steps(result) -> int:
     return int((t_end / dt).round().sum())
 
 
+#: Sensors and navigator added by ``--ekf`` (a single-frequency GNSS, a compass, an industrial MEMS IMU).
+EKF_SETTINGS = [
+    "stack.navigator=ekf",
+    "sensors.gps.kind=gnss", "sensors.gps.rate_hz=1.0",
+    "sensors.ahrs.kind=compass", "sensors.ahrs.rate_hz=10.0",
+    "sensors.imu.kind=imu", "sensors.imu.rate_hz=10.0", "sensors.imu.grade=industrial_mems",
+]  # fmt: skip
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--trials", type=int, default=1000)
     ap.add_argument("--batch-size", type=int, default=1000)
     ap.add_argument("--reference-trials", type=int, default=3, help="trials run one at a time for the ratio")
     ap.add_argument("--scenario", default="skerrow_sound")
+    ap.add_argument("--ekf", action="store_true", help="add GNSS, compass and IMU sensors and the EKF navigator")
+    ap.add_argument("--set", action="append", default=[], metavar="PATH=VALUE", help="change a spec field")
     args = ap.parse_args()
-    spec = load_spec(example_spec_path(args.scenario))
+    settings = (EKF_SETTINGS if args.ekf else []) + args.set
+    spec = load_spec(example_spec_path(args.scenario), settings)
+    if settings:
+        print("spec changes:", " ".join(settings))
     print(f"{platform.processor() or platform.machine()}, {os.cpu_count()} cores, numba threads "
           f"{numba.get_num_threads()} ({numba.threading_layer() if numba.get_num_threads() else '-'})")  # fmt: skip
     # warm-up: compile kernels, identify the craft's Nomoto model (cached for the campaign)
