@@ -76,9 +76,9 @@ def test_settings_change_a_spec_and_refuse_nonsense() -> None:
     data = {"stack": {"navigator": "truth"}}
     apply_settings(data, ["stack.navigator=dead_reckoning", "sensors.gps.outages_s=[[1.0, 2.0]]"])
     assert data == {"stack": {"navigator": "dead_reckoning"}, "sensors": {"gps": {"outages_s": [[1.0, 2.0]]}}}
-    with pytest.raises(ParameterError, match="dotted.path=value"):
+    with pytest.raises(ParameterError, match=r"dotted\.path=value"):
         apply_settings({}, ["stack.navigator"])
-    with pytest.raises(ParameterError, match="'stack.navigator' is a value, not a table"):
+    with pytest.raises(ParameterError, match=r"'stack\.navigator' is a value, not a table"):
         apply_settings({"stack": {"navigator": "ekf"}}, ["stack.navigator.kind=x"])
     with pytest.raises(ParameterError, match=r"stack\.navigator"):
         load_spec(example_spec_path("skerrow_sound"), ["stack.navigator=kalman"])
