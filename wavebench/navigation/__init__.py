@@ -9,9 +9,12 @@ Sensor-independent, batched over a leading trial axis, pure functions:
 - :mod:`.dead_reckoning` — planar dead reckoning from heading and body
   velocity or course and speed (trapezoidal or forward-Euler rule);
 - :mod:`.particle` — a particle filter over trials x particles for
-  terrain-aided horizontal position with systematic resampling.
+  terrain-aided horizontal position with systematic resampling;
+- :mod:`.terrain_kernel` — the same filter compiled for one trial at a time
+  (the navigator of a campaign calls it), with a counter-based generator.
 """
 
+from . import terrain_kernel
 from .consistency import ensemble_averaged_nees, nees, nees_bounds, nis, time_averaged_nees
 from .dead_reckoning import (
     INTEGRATION_RULES,
@@ -61,5 +64,6 @@ __all__ = [
     "pf_update",
     "systematic_counts",
     "systematic_resample",
+    "terrain_kernel",
     "time_averaged_nees",
 ]
