@@ -241,3 +241,70 @@ def test_the_engines_agree_with_a_navigator() -> None:
         got = run_campaign(spec, trials=3, progress=False, engine=engine).metrics
         for col in ("xte_rms_m", "nav_err_rms_m", "nav_err_max_m", "nees_mean", "nis_mean", "energy_kj"):
             np.testing.assert_allclose(got[col], ref[col], rtol=1e-7, err_msg=f"{engine}: {col}")
+
+
+def _swap_sensors(text: str, replacement: str) -> str:
+    return text[: text.index("[sensors.gps]")] + replacement + text[text.index("[sensors.ins]"):]
+
+
+def test_beacon_ranges_fix_the_position_without_gnss() -> None:
+    # Three fixed beacons around the route, 0.3 m range noise (the acoustic model's slant range and sound-speed
+    # scaling); the EKF takes the ranges as scalar updates. With the ranges alone for position, the error must stay
+    # near the range noise, far below dead reckoning's drift over the same run.
+    beacons = """
+[sensors.lbl]
+kind = "acoustic"
+rate_hz = 1.0
+beacons_ned_m = [[-100.0, -100.0, 30.0], [400.0, 0.0, 30.0], [150.0, 700.0, 30.0]]
+
+[sensors.lbl.acoustic]
+noise_sd_m = 0.3
+
+[sensors.mag]
+kind = "compass"
+rate_hz = 10.0
+
+"""
+    # The water is 10 degC, 35 ppt (the navigator's choice); a receiver that assumes the Mackenzie (1981) speed
+    # there has no scale error, one that assumes 1500 m/s reads every range long by the speed ratio.
+    from wavebench.sensors.ranging import mackenzie_sound_speed
+    from wavebench.trial.navigator import WATER_S_PPT, WATER_T_C
+
+    c_true = float(mackenzie_sound_speed(WATER_T_C, WATER_S_PPT, 30.0))
+    text = _swap_sensors(spec_text(duration_s=150.0), beacons)
+    matched = run_campaign(load_spec(text, [f"sensors.lbl.acoustic.assumed_sound_speed_mps={c_true!r}"]), trials=4,
+                           progress=False).metrics  # fmt: skip
+    assert (matched["ended"] != "failed").all()
+    assert (matched["nav_err_rms_m"] < 0.6).all(), matched["nav_err_rms_m"]
+    assert np.isfinite(matched["nees_mean"]).all() and matched["nis_mean"].isna().all()  # NIS: GNSS fixes only
+    scaled = run_campaign(load_spec(text), trials=4, progress=False).metrics
+    # ranges of a few hundred metres read long by 1 - c_true / 1500 (about 0.7 %): metres of error, not decimetres
+    assert (scaled["nav_err_rms_m"] > 0.5 * (1.0 - c_true / 1500.0) * 300.0).all()
+    assert (scaled["nav_err_rms_m"] > 2.0 * matched["nav_err_rms_m"]).all()
+
+
+def test_a_gyrocompass_heading_source_runs_within_its_error_budget() -> None:
+    # IMO A.424(XI): settle-point error within 0.75 deg sec(latitude); the scenario origin is at 47.5 deg N.
+    gyro = """
+[sensors.gps]
+kind = "gnss"
+rate_hz = 1.0
+
+[sensors.gyro]
+kind = "gyrocompass"
+rate_hz = 10.0
+
+"""
+    spec = load_spec(_swap_sensors(spec_text(duration_s=120.0), gyro))
+    m = run_campaign(spec, trials=4, progress=False).metrics
+    assert (m["ended"] != "failed").all() and np.isfinite(m["nav_err_rms_m"]).all()
+    # each trial's settle-point error is drawn uniformly within the bound at the scenario's latitude
+    from wavebench.core.streams import TrialStreams
+    from wavebench.spec import build_environment
+    from wavebench.trial import build_trial_setup
+    from wavebench.trial import nav_kernel as nk_
+
+    setup = build_trial_setup(spec, build_environment(spec, TrialStreams(spec.campaign.seed, range(4))))
+    settle_deg = np.degrees(setup.nav.par[:, nk_.P_HEAD_BIAS])
+    bound_deg = 0.75 / math.cos(math.radians(47.5))  # IMO A.424(XI) settle-point limit x sec(latitude)
+    assert (np.abs(settle_deg) <= bound_deg).all() and np.ptp(settle_deg) > 0.0
