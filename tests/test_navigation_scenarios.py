@@ -58,7 +58,8 @@ def test_terrain_navigation_same_bits_whatever_the_batch_and_engine() -> None:
 
 
 def test_bridge_scenario_outage_shows_in_metrics_and_record() -> None:
-    spec = load_spec(example_spec_path("brannock_bridge"), ["scenario.duration_s=300.0"])
+    spec = load_spec(example_spec_path("brannock_bridge"), ["scenario.duration_s=300.0",
+                                                            "campaign.record_interval_s=0.1"])  # fmt: skip
     res = run_campaign(spec, trials=4, progress=False)
     m = res.metrics
     assert (m["ended"] != "failed").all()
@@ -66,10 +67,12 @@ def test_bridge_scenario_outage_shows_in_metrics_and_record() -> None:
     fix = res.timeseries["fix_ok"].sel(time=slice(start + 1.0, end - 1.0)).values
     assert (fix == 0.0).all()
     err = res.timeseries["nav_err_m"]
-    grown = err.sel(time=end).values
+    last_inside = err.sel(time=end - 0.1, method="nearest").values  # the last control period before the fix
     before = err.sel(time=start).values
-    assert (grown > before).all()
-    np.testing.assert_allclose(m["nav_err_outage_end_m"].to_numpy(), grown, rtol=1e-6)
+    assert (last_inside > before).all()
+    np.testing.assert_allclose(m["nav_err_outage_end_m"].to_numpy(), last_inside, rtol=1e-6)
+    # the first fix after the window pulls the estimate back
+    assert (err.sel(time=end + 5.0, method="nearest").values < last_inside).all()
 
 
 def test_settings_change_a_spec_and_refuse_nonsense() -> None:

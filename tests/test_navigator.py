@@ -145,8 +145,10 @@ def test_mechanisation_follows_a_constant_turn() -> None:
 @pytest.fixture(scope="module")
 def runs():
     clear = run_campaign(load_spec(spec_text()), trials=8, batch_size=8, progress=False)
-    # without the DVL the filter coasts through the outage on the IMU alone
-    outage = run_campaign(load_spec(spec_text("[[40.0, 160.0]]", dvl=False)), trials=8, batch_size=8, progress=False)
+    # without the DVL the filter coasts through the outage on the IMU alone; the window ends just after the fix
+    # due at 160 s, so the last control period inside it is the recorded sample at 160 s
+    outage = run_campaign(load_spec(spec_text("[[40.0, 160.05]]", dvl=False)), trials=8, batch_size=8,
+                          progress=False)  # fmt: skip
     return clear, outage
 
 
@@ -157,7 +159,6 @@ def test_ekf_beats_the_raw_fixes(runs) -> None:
     # A raw fix with independent N(0, sd^2) errors per axis has RMS horizontal error sqrt(2) sd (chi distribution,
     # 2 degrees of freedom): fusing the fixes with the IMU and DVL must do much better.
     assert (m["nav_err_rms_m"] < 0.5 * math.sqrt(2.0) * 1.5).all()
-    assert (m["nav_err_rms_m"] > 0.0).all()
 
 
 def test_gnss_innovations_are_consistent(runs) -> None:
@@ -165,12 +166,12 @@ def test_gnss_innovations_are_consistent(runs) -> None:
     # filter; two-sided 95 % region (Bar-Shalom, Li & Kirubarajan 2001, ch. 5.4). The GNSS error is white and
     # modelled exactly, so the region must hold (fixes are close to independent at 1 Hz).
     clear, _ = runs
-    ds = clear.timeseries
-    nis = ds["nis"].values.astype(float)
-    fixes = nis[np.isfinite(nis)]
-    nk_ = fixes.size
-    lo, hi = stats.chi2.ppf([0.025, 0.975], 2 * nk_) / nk_
-    assert lo <= fixes.mean() <= hi, (lo, fixes.mean(), hi)
+    m = clear.metrics
+    assert m["time_to_complete_s"].isna().all()  # every trial runs the whole 200 s: 200 fixes each at 1 Hz
+    n_fixes = 8 * 200
+    anis = float(m["nis_mean"].mean())  # equal counts per trial: the pooled average
+    lo, hi = stats.chi2.ppf([0.025, 0.975], 2 * n_fixes) / n_fixes
+    assert lo <= anis <= hi, (lo, anis, hi)
 
 
 def test_an_unmodelled_compass_bias_makes_the_filter_optimistic() -> None:
@@ -189,11 +190,11 @@ def test_an_outage_grows_the_error_and_the_fix_flag_shows_it(runs) -> None:
     clear, outage = runs
     m = outage.metrics
     assert (m["ended"] != "failed").all()
-    # against the same trials with the fixes at the same moment (the filter coasts on a tactical IMU)
+    # against the same trials (same seeds, with a DVL and the fixes) at the same moment
     clear_at_end = clear.timeseries["nav_err_m"].sel(time=160.0).values
     ratio = m["nav_err_outage_end_m"].to_numpy() / clear_at_end
     assert (ratio > 1.0).all() and np.median(ratio) > 2.0, ratio
-    # the metric is the error at the first control period after the window: t = 160 s is a recorded sample
+    # the metric is the error at the last control period inside the window, before the first fix
     ds = outage.timeseries
     at_end = ds["nav_err_m"].sel(time=160.0).values
     np.testing.assert_allclose(m["nav_err_outage_end_m"].to_numpy(), at_end, rtol=1e-6)
@@ -277,7 +278,19 @@ rate_hz = 10.0
     assert (matched["ended"] != "failed").all()
     assert (matched["nav_err_rms_m"] < 0.6).all(), matched["nav_err_rms_m"]
     assert np.isfinite(matched["nees_mean"]).all() and matched["nis_mean"].isna().all()  # NIS: GNSS fixes only
-    scaled = run_campaign(load_spec(text), trials=4, progress=False).metrics
+    # the kernel's reading against the library's acoustic range model for the same geometry
+    from wavebench.core.streams import TrialStreams
+    from wavebench.sensors.ranging import AcousticRangeParams, acoustic_range
+    from wavebench.spec import build_environment
+    from wavebench.trial import build_trial_setup
+
+    spec = load_spec(text)
+    setup = build_trial_setup(spec, build_environment(spec, TrialStreams(1, range(2))))
+    lib = acoustic_range(np.array([[0.0, 0.0, 30.0]]), np.array([[400.0, 0.0, 30.0]]), AcousticRangeParams(),
+                         sound_speed_mps=c_true)  # fmt: skip
+    np.testing.assert_allclose(400.0 * setup.nav.par[:, nk.P_AC_SCALE], np.ravel(lib.range_m)[0], rtol=1e-12)
+    assert np.ravel(lib.range_m)[0] > 400.0  # assumed 1500 m/s is faster than the water: ranges read long
+    scaled = run_campaign(spec, trials=4, progress=False).metrics
     # ranges of a few hundred metres read long by 1 - c_true / 1500 (about 0.7 %): metres of error, not decimetres
     assert (scaled["nav_err_rms_m"] > 0.5 * (1.0 - c_true / 1500.0) * 300.0).all()
     assert (scaled["nav_err_rms_m"] > 2.0 * matched["nav_err_rms_m"]).all()

@@ -48,7 +48,8 @@ METRICS: dict[str, MetricInfo] = {
     "nav_err_p95_m": MetricInfo("m", "95th percentile of the horizontal navigation error"),
     "nav_err_max_m": MetricInfo("m", "largest horizontal navigation error"),
     "nav_err_outage_end_m": MetricInfo(
-        "m", "largest horizontal navigation error at the end of a scheduled GNSS outage window (NaN if none)"
+        "m", "largest horizontal navigation error at the end of a scheduled GNSS outage window (its last control "
+        "period, before the first fix; NaN if none)"
     ),
     "nees_mean": MetricInfo("1", "time-averaged NEES of [north, east, heading, surge, sway] (5 dof; 5 if consistent)"),
     "nis_mean": MetricInfo("1", "time-averaged NIS of the GNSS fixes (2 dof; 2 if consistent)"),

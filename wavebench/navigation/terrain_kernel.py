@@ -53,7 +53,7 @@ reserved. ``tick`` is the control period's index (>= 0); the scheme uses
 trial's cloud may have at most ``MAX_PARTICLES`` particles.
 
 Key: give each trial its own uint64 key, drawn from its streams, e.g.
-``streams.draw("nav.pf.key", lambda g: g.integers(0, 2**64, dtype=np.uint64))``.
+``streams.draw("navigator.terrain.key", lambda g: g.integers(0, 2**63, dtype=np.uint64))`` (as the navigator does).
 Two keys give overlapping streams only if their difference is a small
 multiple of the odd constant 0x9E3779B97F4A7C15 (mod 2**64), which random
 64-bit keys are not.

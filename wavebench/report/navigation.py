@@ -239,6 +239,12 @@ def _nearest(t: FloatArray, x: float) -> int | None:
     return int(np.argmin(np.abs(t - x)))
 
 
+def _last_before(t: FloatArray, x: float) -> int | None:
+    """Index of the last recorded time strictly before ``x`` (inside an outage window that ends at ``x``)."""
+    idx = int(np.searchsorted(t, x, side="left")) - 1
+    return idx if idx >= 0 else None
+
+
 def outage_end_errors(
     time_s: ArrayLike, err_m: ArrayLike, windows: Sequence[tuple[str, float, float]]
 ) -> list[OutageError]:
@@ -260,14 +266,15 @@ def outage_end_errors(
 
     Notes
     -----
-    The error at a window's end is read at the recorded sample nearest the
-    end time (the first such sample on a tie); the growth rate uses the
-    samples nearest the start and the end.
+    The error at a window's end is read at the last recorded sample before
+    the end time, the last one inside the window (the sample at the end
+    already has the first fix fused); the growth rate uses the samples
+    nearest the start and that one.
 
     Examples
     --------
-    >>> err = [[1.0, 1.0, 3.0, 5.0], [1.0, 2.0, 5.0, 7.0]]
-    >>> rows = outage_end_errors([0.0, 1.0, 2.0, 3.0], err, [("gps", 1.0, 3.0)])
+    >>> err = [[1.0, 1.0, 3.0, 5.0, 1.0], [1.0, 2.0, 5.0, 7.0, 2.0]]
+    >>> rows = outage_end_errors([0.0, 1.0, 2.0, 3.0, 4.0], err, [("gps", 1.0, 4.0)])
     >>> rows[0].median_m, rows[0].growth_median_mps
     (6.0, 2.25)
     """
@@ -277,8 +284,9 @@ def outage_end_errors(
         raise ParameterError("err_m", e.shape, f"an array of shape (n_trials, {t.size})")
     rows = []
     for sensor, start, end in windows:
-        i0, i1 = _nearest(t, float(start)), _nearest(t, float(end))
-        if i1 is None:
+        i0 = _nearest(t, float(start))
+        i1 = _last_before(t, float(end)) if _nearest(t, float(end)) is not None else None
+        if i1 is None or t[i1] < float(start):
             rows.append(OutageError(str(sensor), float(start), float(end), math.nan, math.nan, 0, math.nan,
                                     math.nan, math.nan))  # fmt: skip
             continue
@@ -470,7 +478,8 @@ def _error_section(ds: Any, metrics: pd.DataFrame, windows: list[tuple[str, floa
             "<h3>Error at the end of each GNSS outage</h3><table><tr><th>sensor</th><th class='num'>window [s]</th>"
             "<th class='num'>sample used [s]</th><th class='num'>trials</th><th class='num'>median [m]</th>"
             "<th class='num'>95 % [m]</th><th class='num'>growth, median [m/s]</th></tr>" + "".join(rows) + "</table>"
-            "<p class='note'>Error across trials at the recorded time nearest each window's end; growth: "
+            "<p class='note'>Error across trials at the last recorded time inside each window (before the first "
+            "fix); growth: "
             "(error at the end − error at the start) / duration, per trial, median across trials. A window "
             "outside the record shows no value.</p>"
         )

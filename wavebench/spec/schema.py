@@ -302,6 +302,10 @@ class Spec(SpecTable):
                                      f"one sensor per kind in this version: sensors '{first_of_kind[sensor.kind]}' "
                                      f"and '{name}' are both of kind '{sensor.kind}'")  # fmt: skip
             first_of_kind[sensor.kind] = name
+            if sensor.kind in ("imu", "depth") and sensor.latency_s != 0.0:
+                raise ParameterError(f"sensors.{name}.latency_s", sensor.latency_s,
+                                     f"must be 0 for kind '{sensor.kind}' in this version (its latency is not "
+                                     "modelled)")  # fmt: skip
             k = 1.0 / (sensor.rate_hz * period)
             if abs(k - round(k)) > 1e-9 * max(k, 1.0) or round(k) < 1:
                 raise ParameterError(f"sensors.{name}.rate_hz", sensor.rate_hz,

@@ -326,9 +326,10 @@ def _nav_record(navigator: NavRun | None, eta: FloatArray) -> dict[str, FloatArr
 
 
 def outage_end_ticks(windows: tuple, period: float, n_ticks: int) -> NDArray[np.int64]:
-    """Control periods at which scheduled outage windows end (the first period at or after each end, within the run)."""
-    ticks = [math.ceil(end / period - 1e-9) for _, end in windows]
-    return np.asarray(sorted({t for t in ticks if 0 <= t < n_ticks}), dtype=np.int64)
+    """The last control period inside each scheduled outage window (before the first fix after it), within the run."""
+    ticks = [(math.ceil(start / period - 1e-9), math.ceil(end / period - 1e-9) - 1) for start, end in windows]
+    return np.asarray(sorted({last for first, last in ticks if 0 <= last < n_ticks and last >= first}),
+                      dtype=np.int64)  # fmt: skip
 
 
 def true_cross_track(setup: TrialSetup, leg: NDArray[np.int64], eta: FloatArray) -> FloatArray:

@@ -40,8 +40,15 @@ antenna position (lever arm; the two axes linearised at the prior, so the
 pair equals the vector update; gated on its 2-dof NIS), heading from a
 compass or gyrocompass (wrapped residual), DVL body velocity over ground
 (lever arm with the gyro rate; noise ``a + b |v|``), slant ranges to fixed
-acoustic beacons. A measurement with latency is the truth of ``latency``
-control periods before, applied as if current (no delay compensation).
+acoustic beacons. A sensor samples the truth every ``every`` control
+periods and its reading arrives ``latency`` periods later, where the filter
+applies it as if current (no delay compensation); its noise, outage windows
+and dropouts are indexed by the time it measured, not the time it arrived.
+
+Simplifications (ours): the DVL row leaves out the gyro-bias term of its
+lever-arm correction; heading is re-wrapped after the heading and GNSS
+updates only; position has no process noise of its own; an IMU slower than
+the control period gives the rate over its first period, held.
 
 Gating: a GNSS fix whose NIS exceeds :data:`GATE_NIS_2DOF` is rejected, but
 never more than :data:`MAX_REJECTS` in a row, so a filter that drifted
@@ -245,8 +252,8 @@ def nav_update_one(i, tick, tn, te, tpsi, tu, tv, tr, x, P, hist, diag, particle
     # --- heading
     ev = cfg[C_EV_HEAD]
     lat = cfg[C_LAT_HEAD]
-    if cfg[C_HEAD] and tick % ev == 0 and tick >= lat:
-        j = tick // ev
+    if cfg[C_HEAD] and tick >= lat and (tick - lat) % ev == 0:
+        j = (tick - lat) // ev
         if head_valid[i, j]:
             s = (tick - lat) % H
             psi_t = hist[i, s, 2]
@@ -266,8 +273,8 @@ def nav_update_one(i, tick, tn, te, tpsi, tu, tv, tr, x, P, hist, diag, particle
     # --- DVL (bottom track: valid within the bottom-lock altitude window)
     ev = cfg[C_EV_DVL]
     lat = cfg[C_LAT_DVL]
-    if cfg[C_DVL] and tick % ev == 0 and tick >= lat:
-        j = tick // ev
+    if cfg[C_DVL] and tick >= lat and (tick - lat) % ev == 0:
+        j = (tick - lat) // ev
         s = (tick - lat) % H
         ok = dvl_valid[i, j]
         if ok and cfg[C_BED]:
@@ -290,8 +297,8 @@ def nav_update_one(i, tick, tn, te, tpsi, tu, tv, tr, x, P, hist, diag, particle
     # --- GNSS fix
     ev = cfg[C_EV_GNSS]
     lat = cfg[C_LAT_GNSS]
-    if fixes and cfg[C_GNSS] and tick % ev == 0 and tick >= lat:
-        j = tick // ev
+    if fixes and cfg[C_GNSS] and tick >= lat and (tick - lat) % ev == 0:
+        j = (tick - lat) // ev
         if gnss_valid[i, j]:
             s = (tick - lat) % H
             lx, ly = par[i, P_GNSS_LX], par[i, P_GNSS_LY]
@@ -322,8 +329,8 @@ def nav_update_one(i, tick, tn, te, tpsi, tu, tv, tr, x, P, hist, diag, particle
     # --- acoustic ranges to fixed beacons
     ev = cfg[C_EV_AC]
     lat = cfg[C_LAT_AC]
-    if fixes and cfg[C_AC] and tick % ev == 0 and tick >= lat:
-        j = tick // ev
+    if fixes and cfg[C_AC] and tick >= lat and (tick - lat) % ev == 0:
+        j = (tick - lat) // ev
         if ac_valid[i, j]:
             s = (tick - lat) % H
             depth = par[i, P_RUN_DEPTH]
@@ -351,16 +358,16 @@ def nav_update_one(i, tick, tn, te, tpsi, tu, tv, tr, x, P, hist, diag, particle
     if mode == MODE_TERRAIN:
         ev = cfg[C_EV_DEPTH]
         lat = cfg[C_LAT_DEPTH]
-        if cfg[C_DEPTH] and tick % ev == 0 and tick >= lat:
-            j = tick // ev
+        if cfg[C_DEPTH] and tick >= lat and (tick - lat) % ev == 0:
+            j = (tick - lat) // ev
             if depth_valid[i, j]:
                 diag[i, D_DEPTH] = par[i, P_RUN_DEPTH] + par[i, P_DEPTH_SD] * depth_noise[i, j]
         ev = cfg[C_EV_ALT]
         lat = cfg[C_LAT_ALT]
         has = False
         z = 0.0
-        if cfg[C_ALT] and tick % ev == 0 and tick >= lat and np.isfinite(diag[i, D_DEPTH]):
-            j = tick // ev
+        if cfg[C_ALT] and tick >= lat and (tick - lat) % ev == 0 and np.isfinite(diag[i, D_DEPTH]):
+            j = (tick - lat) // ev
             if alt_valid[i, j]:
                 s = (tick - lat) % H
                 alt_t = depth_one(gn, ge, grid, fill, hist[i, s, 0], hist[i, s, 1]) - par[i, P_RUN_DEPTH]

@@ -20,9 +20,9 @@ is white (1-sigma ``horizontal_sd_m`` per axis); the compass reading is the
 truth plus bias, deviation and white noise; the gyrocompass adds a constant
 settle-point error drawn uniformly within the IMO A.424(XI) limit at the
 scenario's latitude plus white scatter of the standard's RMS figure; the DVL
-noise is ``a + b |v|`` per axis times unit normals; acoustic ranges scale
-with the ratio of the true sound speed (Mackenzie 1981, at 10 degC, 35 ppt
-and the beacon's depth; our choice of water) to the receiver's assumed one.
+noise is ``a + b |v|`` per axis times unit normals; acoustic ranges read
+``r c_assumed / c_true``, the true sound speed from Mackenzie (1981) at
+10 degC, 35 ppt and the beacons' mean depth (our choice of water).
 The filter starts at the true initial pose and velocity with the standard
 deviations of :data:`P0_SD`, its bias states at zero with the IMU grade's
 turn-on and in-run bias spread.
@@ -164,6 +164,11 @@ def build_nav_pack(spec: Spec, trials: TrialStreams, draws: dict[str, FloatArray
     fix_outages: tuple = ()
     max_lat = 0
     sd0_bias = np.zeros((n, 3))
+    heading = [name for name, s in spec.sensors if s.kind in _HEAD_KINDS]
+    if len(heading) > 1:
+        raise ParameterError(f"sensors.{heading[1]}.kind", dict(spec.sensors)[heading[1]].kind,
+                             f"one heading source per navigator in this version: sensors '{heading[0]}' and "
+                             f"'{heading[1]}' are both heading sources (keep one for navigator '{mode}')")  # fmt: skip
     for name, s in spec.sensors:
         every = round(1.0 / (s.rate_hz * period))
         lat = round(s.latency_s / period)
@@ -253,7 +258,8 @@ def build_nav_pack(spec: Spec, trials: TrialStreams, draws: dict[str, FloatArray
             ac_valid = _validity(trials, name, s, n_samples, every * period)
             c_true = mackenzie_sound_speed(WATER_T_C, WATER_S_PPT, float(np.mean(beacons[:, 2])))
             par[:, nk.P_AC_SD], par[:, nk.P_AC_MAX] = m.noise_sd_m, m.max_range_m
-            par[:, nk.P_AC_SCALE] = float(c_true) / np.asarray(m.assumed_sound_speed_mps, dtype=float)
+            # the receiver turns travel time into range with its assumed speed: r_read = r c_assumed / c_true
+            par[:, nk.P_AC_SCALE] = np.asarray(m.assumed_sound_speed_mps, dtype=float) / float(c_true)
     for c_ev in (nk.C_EV_IMU, nk.C_EV_GNSS, nk.C_EV_HEAD, nk.C_EV_DVL, nk.C_EV_ALT, nk.C_EV_DEPTH, nk.C_EV_AC):
         cfg[c_ev] = max(cfg[c_ev], 1)
     cfg[nk.C_HIST] = max_lat + 1
