@@ -63,7 +63,8 @@ def _run(args: argparse.Namespace) -> int:
 
     spec = load_spec(_spec_path(args.spec), args.set or ())
     result = run_campaign(spec, trials=args.trials, seed=args.seed, batch_size=args.batch_size,
-                          record=not args.no_record, progress=not args.quiet)  # fmt: skip
+                          record=not args.no_record, progress=not args.quiet, executor=args.executor,
+                          workers=args.workers, scheduler=args.scheduler)  # fmt: skip
     out = write_store(result, args.out)
     if args.report:
         from .report.campaign import write_campaign_report
@@ -153,6 +154,11 @@ def build_parser() -> argparse.ArgumentParser:
     run.add_argument("--no-record", action="store_true", help="keep metrics only, no time series")
     run.add_argument("--report", action="store_true", help="also write DIR/report.html")
     run.add_argument("--quiet", action="store_true", help="no progress bar")
+    run.add_argument("--executor", default="inline", choices=("inline", "processes", "dask"),
+                     help="where the batches run: this process (default), local worker processes, or Dask; "
+                          "the results are the same bits")  # fmt: skip
+    run.add_argument("--workers", type=int, help="worker processes (processes) or local Dask workers")
+    run.add_argument("--scheduler", metavar="ADDRESS", help="a running Dask scheduler, e.g. tcp://host:8786")
     run.add_argument("--set", action="append", metavar="PATH=VALUE",
                      help="change a spec field before the run, e.g. --set stack.navigator=dead_reckoning "
                           "(repeatable; VALUE is a TOML value or a bare word)")  # fmt: skip

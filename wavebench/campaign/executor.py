@@ -1,17 +1,20 @@
-"""The inline executor: a campaign's trials in vectorised batches, in this process.
+"""Running a campaign: its trials in chunks, each a vectorised batch, on any executor.
 
-:func:`run_campaign` cuts the trials into batches of ``batch_size``, builds
-each batch's environment and blocks from the spec and runs it
-(:func:`~wavebench.trial.loop.run_batch`). Trial ``i`` draws only from its
-own random streams, and the pilot's gains are derived once for the whole
-campaign, so a trial's metrics and record are the same whatever the batch
-size. A batch that raises is recorded as failed trials with the error as
-their reason, and the campaign goes on.
+:func:`run_campaign` cuts the trials into chunks of ``batch_size`` and maps
+:func:`run_chunk` over them with an executor
+(:mod:`wavebench.campaign.executors`: this process, local worker processes
+or Dask). A chunk builds its environment and blocks from the spec and runs
+them (:func:`~wavebench.trial.loop.run_batch`). Trial ``i`` draws only from
+its own random streams, and the pilot's gains are derived once for the
+whole campaign, so a trial's metrics and record are the same whatever the
+batch size or executor. A chunk that raises is recorded as failed trials
+with the error as their reason, and the campaign goes on.
 """
 
 from __future__ import annotations
 
 import dataclasses
+import functools
 import time
 import warnings
 import zlib
@@ -33,7 +36,7 @@ from ..trial.loop import BatchResult, run_batch
 from ..trial.recorder import SIGNALS
 from ..trial.setup import build_trial_setup, check_spec_against_craft, pilot_for
 
-__all__ = ["CampaignResult", "evaluate_verdicts", "run_campaign", "with_overrides"]
+__all__ = ["CampaignResult", "ChunkOutput", "evaluate_verdicts", "run_campaign", "run_chunk", "with_overrides"]
 
 
 @dataclass(frozen=True)
@@ -112,6 +115,100 @@ def evaluate_verdicts(spec: Spec, metrics: Any) -> list[Verdict]:
     return out
 
 
+@dataclass(frozen=True)
+class ChunkOutput:
+    """What one chunk of trials produced (picklable, so it can come back from another process).
+
+    Parameters
+    ----------
+    trials : ndarray of int
+        Global trial indices of the chunk.
+    columns : dict of str to ndarray
+        Metric columns and ``param.<path>`` draws, one entry per trial.
+    record : xarray.Dataset or None
+        The chunk's time series (None when recording was off or the chunk failed).
+    error : str or None
+        The error that failed the whole chunk (its trials are then recorded as failed).
+    """
+
+    trials: np.ndarray
+    columns: dict[str, np.ndarray]
+    record: Any
+    error: str | None = None
+
+
+def run_chunk(
+    spec: Spec,
+    trials: np.ndarray,
+    *,
+    pilot: Any,
+    record: bool = True,
+    engine: str | None = None,
+    guide_factory: Callable[[Any], Any] | None = None,
+    pilot_factory: Callable[[Any], Any] | None = None,
+    on_progress: Callable[[float], Any] | None = None,
+    numba_threads: int | None = None,
+) -> ChunkOutput:
+    """Run one chunk of a campaign's trials as one vectorised batch.
+
+    The unit of work every executor maps: it depends only on its arguments,
+    so a chunk gives the same bits in this process, in a worker process or
+    on a Dask worker.
+
+    Parameters
+    ----------
+    spec : Spec
+    trials : ndarray of int
+        Global trial indices.
+    pilot : NomotoPidPilot
+        The campaign's pilot (gains identified once per campaign).
+    record, engine, guide_factory, pilot_factory
+        As for :func:`run_campaign`.
+    on_progress : callable, optional
+        Called with the fraction of the chunk's control periods just done.
+    numba_threads : int, optional
+        Threads for the compiled kernels in this process (1 in worker
+        processes, so that workers do not contend for the cores).
+
+    Returns
+    -------
+    ChunkOutput
+    """
+    if numba_threads is not None:
+        import numba
+
+        numba.set_num_threads(max(1, min(int(numba_threads), numba.config.NUMBA_NUM_THREADS)))
+    idx = np.asarray(trials, dtype=np.int64)
+    env = build_environment(spec, TrialStreams(spec.campaign.seed, idx))
+    params = {f"param.{k}": np.asarray(v, dtype=float) for k, v in env.draws.items()}
+    try:
+        setup = build_trial_setup(spec, env, pilot=pilot)
+        res: BatchResult = run_batch(
+            spec, setup, record=record,
+            guide=guide_factory(setup) if guide_factory else None,
+            pilot=pilot_factory(setup) if pilot_factory else None,
+            on_progress=on_progress, engine=engine,
+        )  # fmt: skip
+    except ParameterError:
+        raise  # a configuration error (e.g. the wiring): no trial can run
+    except (ArithmeticError, ValueError, FloatingPointError, RuntimeError) as exc:
+        reason = f"error: {type(exc).__name__}: {exc}"
+        return ChunkOutput(idx, {**_failed_batch(idx, reason), **params}, None, str(exc))
+    rec = res.record.to_dataset(idx, res.time_s, {}) if record and res.record is not None else None
+    return ChunkOutput(idx, {**res.metrics, **params}, rec)
+
+
+def _check_picklable(work: Any, where: str) -> None:
+    """Refuse, before any chunk runs, arguments that cannot travel to another process."""
+    import pickle
+
+    try:
+        pickle.dumps(work)
+    except (pickle.PicklingError, AttributeError, TypeError) as exc:
+        raise ParameterError("executor", where, "needs picklable arguments: give guide_factory / pilot_factory as "
+                             f"module-level functions or classes, not lambdas or closures ({exc})") from None
+
+
 def run_campaign(
     spec: Spec,
     *,
@@ -123,8 +220,11 @@ def run_campaign(
     guide_factory: Callable[[Any], Any] | None = None,
     pilot_factory: Callable[[Any], Any] | None = None,
     engine: str | None = None,
+    executor: str | Any = "inline",
+    workers: int | None = None,
+    scheduler: str | None = None,
 ) -> CampaignResult:
-    """Run a campaign inline, in vectorised batches.
+    """Run a campaign in chunks of ``batch_size`` trials, inline, in local processes or on Dask.
 
     Parameters
     ----------
@@ -138,10 +238,21 @@ def run_campaign(
     guide_factory, pilot_factory : callable, optional
         ``factory(setup)`` returns a guide / pilot replacing the spec's
         built-in one for a batch (e.g. a user block or a per-trial adapter
-        built from ``setup.env.trials.trials``).
+        built from ``setup.env.trials.trials``). With another process's
+        executor they must be picklable (module-level functions or classes).
     engine : {"fused", "tick", "numpy"}, optional
         How batches are stepped (see :func:`~wavebench.trial.loop.run_batch`);
         the default is the fastest that runs the blocks in use.
+    executor : {"inline", "processes", "dask"} or object
+        Where the chunks run (:mod:`wavebench.campaign.executors`): this
+        process, a pool of local worker processes, or a Dask cluster; or any
+        object with an order-preserving ``map(fn, items)``. Results are the
+        same bits whichever is used.
+    workers : int, optional
+        Worker processes for "processes", or workers of the local Dask
+        cluster started when no ``scheduler`` is given (default: the cores).
+    scheduler : str, optional
+        Address of a running Dask scheduler (``"tcp://host:8786"``).
 
     Returns
     -------
@@ -150,10 +261,13 @@ def run_campaign(
     Raises
     ------
     ParameterError
-        For a spec the craft cannot sail (checked before any trial runs).
+        For a spec the craft cannot sail (checked before any trial runs), or
+        an unknown executor.
     """
     import pandas as pd
     import xarray as xr
+
+    from .executors import open_executor
 
     spec = with_overrides(spec, trials=trials, seed=seed, batch_size=batch_size)
     check_spec_against_craft(spec)
@@ -162,32 +276,31 @@ def run_campaign(
     start = time.perf_counter()
     frames, records = [], []
     complete = False
+    chunks = [np.arange(lo, min(lo + c.batch_size, c.trials)) for lo in range(0, c.trials, c.batch_size)]
     bar = tqdm(total=c.trials, desc="campaign", unit="trial", disable=not progress, smoothing=0.1)
+    done = 0
     try:
-        for lo in range(0, c.trials, c.batch_size):
-            idx = np.arange(lo, min(lo + c.batch_size, c.trials))
-            env = build_environment(spec, TrialStreams(c.seed, idx))
-            params = {f"param.{k}": np.asarray(v, dtype=float) for k, v in env.draws.items()}
-            try:
-                setup = build_trial_setup(spec, env, pilot=pilot)
-                res: BatchResult | None = run_batch(
-                    spec, setup, record=record,
-                    guide=guide_factory(setup) if guide_factory else None,
-                    pilot=pilot_factory(setup) if pilot_factory else None,
-                    on_progress=lambda f, n=idx.size: bar.update(f * n), engine=engine,
-                )  # fmt: skip
-                cols = res.metrics
-            except ParameterError:
-                raise  # a configuration error (e.g. the wiring): no trial can run
-            except (ArithmeticError, ValueError, FloatingPointError, RuntimeError) as exc:
-                warnings.warn(f"trials {idx[0]}-{idx[-1]} failed: {exc}", WavebenchWarning, stacklevel=2)
-                cols = _failed_batch(idx, f"error: {type(exc).__name__}: {exc}")
-                res = None
-            frames.append(pd.DataFrame({"trial": idx.astype(np.int64), **cols, **params}))
-            if record and res is not None and res.record is not None:
-                records.append(res.record.to_dataset(idx, res.time_s, {}))
-            bar.n = min(lo + idx.size, c.trials)
-            bar.refresh()
+        with open_executor(executor, workers=workers, scheduler=scheduler) as ex:
+            if ex.in_process:
+                def work(idx: np.ndarray) -> ChunkOutput:
+                    return run_chunk(spec, idx, pilot=pilot, record=record, engine=engine,
+                                     guide_factory=guide_factory, pilot_factory=pilot_factory,
+                                     on_progress=lambda f, n=idx.size: bar.update(f * n))  # fmt: skip
+            else:
+                work = functools.partial(run_chunk, spec, pilot=pilot, record=record, engine=engine,
+                                         guide_factory=guide_factory, pilot_factory=pilot_factory,
+                                         numba_threads=1)  # fmt: skip
+                _check_picklable(work, ex.description)
+            for out in ex.map(work, chunks):
+                if out.error is not None:
+                    warnings.warn(f"trials {out.trials[0]}-{out.trials[-1]} failed: {out.error}", WavebenchWarning,
+                                  stacklevel=2)  # fmt: skip
+                frames.append(pd.DataFrame({"trial": out.trials.astype(np.int64), **out.columns}))
+                if out.record is not None:
+                    records.append(out.record)
+                done += out.trials.size
+                bar.n = done
+                bar.refresh()
         complete = True
     except KeyboardInterrupt:
         warnings.warn("campaign interrupted: keeping the batches that finished", WavebenchWarning, stacklevel=2)

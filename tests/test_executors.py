@@ -1,0 +1,75 @@
+"""Executors: inline, local processes and a real Dask LocalCluster give the same bits."""
+
+from __future__ import annotations
+
+import concurrent.futures
+
+import pandas as pd
+import pytest
+
+from wavebench.campaign import run_campaign
+from wavebench.campaign.executors import open_executor
+from wavebench.core.errors import ParameterError
+from wavebench.spec import example_spec_path, load_spec
+
+
+@pytest.fixture(scope="module")
+def spec():
+    return load_spec(example_spec_path("skerrow_sound"), ["scenario.duration_s=30.0", "campaign.batch_size=2"])
+
+
+@pytest.fixture(scope="module")
+def inline(spec):
+    return run_campaign(spec, trials=5, progress=False)
+
+
+def _same(a, b) -> None:
+    pd.testing.assert_frame_equal(a.metrics, b.metrics, check_exact=True)
+    assert a.timeseries.equals(b.timeseries)
+    assert [v.verdict for v in a.verdicts] == [v.verdict for v in b.verdicts]
+
+
+def test_local_processes_give_the_inline_bits(spec, inline) -> None:
+    _same(inline, run_campaign(spec, trials=5, progress=False, executor="processes", workers=2))
+
+
+def test_a_dask_local_cluster_gives_the_inline_bits(spec, inline) -> None:
+    pytest.importorskip("distributed", reason="the test extra installs dask.distributed")
+    _same(inline, run_campaign(spec, trials=5, progress=False, executor="dask", workers=2))
+
+
+def test_a_navigator_campaign_on_processes_gives_the_inline_bits() -> None:
+    spec = load_spec(example_spec_path("brannock_bridge"), ["scenario.duration_s=40.0", "campaign.batch_size=2"])
+    a = run_campaign(spec, trials=3, progress=False)
+    _same(a, run_campaign(spec, trials=3, progress=False, executor="processes", workers=2))
+
+
+def test_any_object_with_an_ordered_map_is_an_executor(spec, inline) -> None:
+    with concurrent.futures.ThreadPoolExecutor(max_workers=2) as pool:
+        _same(inline, run_campaign(spec, trials=5, progress=False, executor=pool))
+
+
+def _not_picklable_factory():
+    return lambda setup: None
+
+
+def test_bad_executors_are_refused_before_anything_runs(spec) -> None:
+    with pytest.raises(ParameterError, match=r"executor = 'cluster' .*'inline', 'processes', 'dask'"):
+        run_campaign(spec, trials=2, progress=False, executor="cluster")
+    with pytest.raises(ParameterError, match=r"workers = 0"):
+        run_campaign(spec, trials=2, progress=False, executor="processes", workers=0)
+    with pytest.raises(ParameterError, match="picklable"):
+        run_campaign(spec, trials=2, progress=False, executor="processes", workers=1,
+                     pilot_factory=_not_picklable_factory())  # fmt: skip
+    with pytest.raises(ParameterError, match="map"), open_executor(object()):
+        pass
+
+
+def test_cli_runs_on_worker_processes(tmp_path, spec, inline) -> None:
+    from wavebench.cli import main
+
+    out = tmp_path / "store"
+    assert main(["run", "skerrow_sound", "--out", str(out), "--trials", "5", "--quiet", "--executor", "processes",
+                 "--workers", "2", "--set", "scenario.duration_s=30.0", "--set", "campaign.batch_size=2"]) == 0  # fmt: skip
+    got = pd.read_parquet(out / "metrics.parquet")
+    pd.testing.assert_frame_equal(got[inline.metrics.columns], inline.metrics, check_exact=True, check_dtype=False)
