@@ -22,8 +22,11 @@ of ``ln X``: ``ln X ~ N(ln median, sigma**2)``. In scipy.stats terms it is
 
 Every distribution is a frozen dataclass with ``support() -> (low, high)``
 (the infimum and supremum of the values it can give) and
-``sample(rng, size) -> ndarray of shape (size,)``. :func:`parse_distribution`
-reads the TOML form and :func:`distribution_to_data` writes it back.
+``sample(rng, size) -> ndarray of shape (size,)``, and ``ppf(u)``, the
+inverse of its cumulative distribution function (the quantile function),
+which maps points of a space-filling design in the unit cube onto the field
+(:mod:`wavebench.spec.designs`). :func:`parse_distribution` reads the TOML
+form and :func:`distribution_to_data` writes it back.
 """
 
 from __future__ import annotations
@@ -54,6 +57,15 @@ __all__ = [
 
 #: Tolerance on the sum of ``choice`` weights.
 WEIGHT_SUM_TOL = 1e-9
+
+
+def _unit(u: Any) -> np.ndarray:
+    """``u`` as a float array, checked to lie in [0, 1]."""
+    arr = np.asarray(u, dtype=float)
+    if not np.all((arr >= 0.0) & (arr <= 1.0)):
+        bad = arr[~((arr >= 0.0) & (arr <= 1.0))].ravel()[0]
+        raise ParameterError("u", float(bad), "probabilities must lie in [0, 1]")
+    return arr
 
 
 def _number(path: str, value: Any) -> float:
@@ -88,6 +100,20 @@ class Uniform:
         """``size`` draws, ndarray of shape (size,)."""
         return rng.uniform(self.low, self.high, size)
 
+    def ppf(self, u: Any) -> np.ndarray:
+        """Quantile function ``low + u (high - low)``.
+
+        Parameters
+        ----------
+        u : array_like
+            Probabilities in [0, 1].
+
+        Returns
+        -------
+        ndarray of the shape of ``u``
+        """
+        return self.low + _unit(u) * (self.high - self.low)
+
 
 @dataclass(frozen=True)
 class Normal:
@@ -114,6 +140,20 @@ class Normal:
     def sample(self, rng: np.random.Generator, size: int) -> np.ndarray:
         """``size`` draws, ndarray of shape (size,)."""
         return rng.normal(self.mean, self.sd, size)
+
+    def ppf(self, u: Any) -> np.ndarray:
+        """Quantile function ``mean + sd ndtri(u)`` (``-inf`` at 0, ``inf`` at 1).
+
+        Parameters
+        ----------
+        u : array_like
+            Probabilities in [0, 1].
+
+        Returns
+        -------
+        ndarray of the shape of ``u``
+        """
+        return self.mean + self.sd * special.ndtri(_unit(u))
 
 
 @dataclass(frozen=True)
@@ -155,12 +195,15 @@ class TruncatedNormal:
     def sample(self, rng: np.random.Generator, size: int) -> np.ndarray:
         """``size`` draws, ndarray of shape (size,), inside [low, high].
 
-        Within five standard deviations of the mean the inverse transform is
-        written out, ``mean + sd ndtri(Phi(a) + u (Phi(b) - Phi(a)))`` (a
-        campaign draws one value per trial, so the cost of building a
-        ``scipy.stats`` object per draw would dominate); further out in a
-        tail it is ``scipy.stats.truncnorm.ppf``, which keeps its precision
-        there.
+        Within five standard deviations of the mean the inverse transform of
+        ``u = rng.random(size)`` is written out,
+        ``mean + sd ndtri(Phi(a) + u (Phi(b) - Phi(a)))`` (a campaign draws
+        one value per trial, so the cost of building a ``scipy.stats``
+        object per draw would dominate); further out in a tail it is
+        ``scipy.stats.truncnorm.ppf``, which keeps its precision there.
+        These are the draws of plain Monte Carlo, kept bit for bit; the
+        design path uses :meth:`ppf`, which is more precise near the upper
+        limit.
         """
         u = rng.random(size)
         a = (self.low - self.mean) / self.sd
@@ -168,6 +211,43 @@ class TruncatedNormal:
         if -5.0 <= a and b <= 5.0:
             pa, pb = special.ndtr(a), special.ndtr(b)
             x = self.mean + self.sd * special.ndtri(pa + u * (pb - pa))
+        else:
+            x = self.scipy().ppf(u)
+        return np.clip(x, self.low, self.high)
+
+    def ppf(self, u: Any) -> np.ndarray:
+        """Quantile function: the parent normal's inverse taken within its CDF range.
+
+        Parameters
+        ----------
+        u : array_like
+            Probabilities in [0, 1].
+
+        Returns
+        -------
+        ndarray of the shape of ``u``, inside [low, high]
+
+        Notes
+        -----
+        With ``a = (low - mean) / sd``, ``b = (high - mean) / sd`` and
+        ``p = Phi(a) + u (Phi(b) - Phi(a))``, the value is
+        ``mean + sd ndtri(p)`` where ``p <= 1/2`` and, by the symmetry of
+        the normal, ``mean - sd ndtri(Phi(-b) + (1 - u) (Phi(-a) - Phi(-b)))``
+        where ``p > 1/2`` (so neither branch takes ``ndtri`` of a number
+        close to 1, where it loses relative precision), clipped to
+        [low, high]. Where ``a < -5`` or ``b > 5`` it is
+        ``scipy.stats.truncnorm.ppf``, as in :meth:`sample`.
+        """
+        u = _unit(u)
+        a = (self.low - self.mean) / self.sd
+        b = (self.high - self.mean) / self.sd
+        if -5.0 <= a and b <= 5.0:
+            pa, pb = special.ndtr(a), special.ndtr(b)
+            p = pa + u * (pb - pa)
+            qa, qb = special.ndtr(-a), special.ndtr(-b)
+            q = qb + (1.0 - u) * (qa - qb)
+            z = np.where(p <= 0.5, special.ndtri(np.minimum(p, 0.5)), -special.ndtri(np.minimum(q, 0.5)))
+            x = self.mean + self.sd * z
         else:
             x = self.scipy().ppf(u)
         return np.clip(x, self.low, self.high)
@@ -206,6 +286,20 @@ class LogNormal:
     def sample(self, rng: np.random.Generator, size: int) -> np.ndarray:
         """``size`` draws, ndarray of shape (size,)."""
         return self.median * np.exp(self.sigma * rng.standard_normal(size))
+
+    def ppf(self, u: Any) -> np.ndarray:
+        """Quantile function ``median exp(sigma ndtri(u))`` (0 at 0, ``inf`` at 1).
+
+        Parameters
+        ----------
+        u : array_like
+            Probabilities in [0, 1].
+
+        Returns
+        -------
+        ndarray of the shape of ``u``
+        """
+        return self.median * np.exp(self.sigma * special.ndtri(_unit(u)))
 
 
 @dataclass(frozen=True)
@@ -246,6 +340,42 @@ class Choice:
         """``size`` draws, ndarray of shape (size,)."""
         p = None if self.weights is None else np.asarray(self.weights) / math.fsum(self.weights)
         return rng.choice(np.asarray(self.values, dtype=float), size=size, p=p)
+
+    def ppf(self, u: Any) -> np.ndarray:
+        """Quantile function ``min{x : F(x) >= u}`` over the values sorted ascending.
+
+        Parameters
+        ----------
+        u : array_like
+            Probabilities in [0, 1].
+
+        Returns
+        -------
+        ndarray of the shape of ``u``
+
+        Notes
+        -----
+        The values are sorted (ties keep their order) and ``F`` is the
+        cumulative sum of their weights, divided by its last entry so it
+        ends at exactly 1. ``u`` is mapped to the first value whose ``F``
+        reaches ``u``, so a value of weight 0 is never given for ``u > 0``
+        and the value ``x_k`` takes the probability interval
+        ``(F(x_(k-1)), F(x_k)]``.
+
+        Examples
+        --------
+        >>> Choice((3.0, 1.0, 2.0), (0.3, 0.2, 0.5)).ppf([0.1, 0.5, 0.9])
+        array([1., 2., 3.])
+        """
+        u = _unit(u)
+        values = np.asarray(self.values, dtype=float)
+        weights = np.ones(values.size) if self.weights is None else np.asarray(self.weights, dtype=float)
+        order = np.argsort(values, kind="stable")
+        cdf = np.cumsum(weights[order])
+        cdf /= cdf[-1]
+        cdf[-1] = 1.0
+        k = np.searchsorted(cdf, u, side="left")
+        return values[order][np.minimum(k, values.size - 1)]
 
 
 Distribution = Uniform | Normal | TruncatedNormal | LogNormal | Choice
