@@ -1,6 +1,7 @@
 """The spec layer: versioned TOML specs with distributions, round trip and content hash."""
 
 from .build import TrialCurrent, TrialEnvironment, TrialWind, build_environment
+from .designs import DESIGNS, unit_design
 from .distributions import Choice, LogNormal, Normal, TruncatedNormal, Uniform, parse_distribution
 from .draws import draw_trial_parameters
 from .io import dump_spec, example_spec_names, example_spec_path, load_spec, save_spec, spec_hash
@@ -29,6 +30,7 @@ from .sensors import NAVIGATOR_NEEDS, NAVIGATORS, SENSOR_KINDS, ImuOverridesSpec
 from .tables import TerrainSpec
 
 __all__ = [
+    "DESIGNS",
     "NAVIGATORS",
     "NAVIGATOR_NEEDS",
     "SENSOR_KINDS",
@@ -71,4 +73,5 @@ __all__ = [
     "spec_from_data",
     "spec_hash",
     "spec_to_data",
+    "unit_design",
 ]

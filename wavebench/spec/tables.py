@@ -20,6 +20,7 @@ from ..craft.catalogue import DEMO_CRAFT_NAMES, CraftParams, demo_craft
 from ..craft.hull import HullParams
 from ..guidance.survey import SurveyParams, check_convex_polygon, survey_waypoints
 from ..sea.seabed import SyntheticBayParams
+from .designs import DESIGNS
 from .fields import SpecTable, number, numbers, params, points, representative, table, text, texts
 from .sensors import NAVIGATORS
 
@@ -345,7 +346,13 @@ class RequirementSpec(SpecTable):
 
 @dataclass(frozen=True, kw_only=True)
 class CampaignSpec(SpecTable):
-    """``[campaign]``: trials, seed, executor, batch size and recording interval.
+    """``[campaign]``: trials, seed, sampling design, executor, batch size and recording interval.
+
+    ``design`` says how the distributed fields are sampled over the
+    trials: ``"monte_carlo"`` (default; each trial draws from its own
+    streams), ``"latin_hypercube"`` or ``"sobol"`` (one space-filling design
+    of ``trials`` points over the campaign, see
+    :mod:`wavebench.spec.designs`).
 
     Results do not depend on ``batch_size`` or ``executor``: they only
     change how the work is cut up. ``record_interval_s`` (a whole number of
@@ -356,6 +363,7 @@ class CampaignSpec(SpecTable):
 
     trials: int = number(bounds=Bounds(ge=1, integer=True), doc="number of trials")
     seed: int = number(bounds=Bounds(ge=0, integer=True), doc="campaign seed (root of the SeedSequence)")
+    design: str = text("monte_carlo", choices=DESIGNS, doc="how the distributed fields are sampled over the trials")
     executor: str = text("inline", choices=EXECUTORS, doc="how trials are run")
     batch_size: int = number(100, bounds=Bounds(ge=1, integer=True), doc="trials per vectorised batch")
     record_interval_s: float = number(1.0, bounds=_POS, unit="s", doc="time-series recording interval")
