@@ -350,6 +350,8 @@ def test_design_depends_on_seed_n_and_d_only():
     assert np.array_equal(a, unit_design("sobol", 16, 3, seed=1))
     assert not np.array_equal(a, unit_design("sobol", 16, 3, seed=2))
     assert not np.array_equal(unit_design("latin_hypercube", 16, 3, seed=1), unit_design("latin_hypercube", 16, 3, 2))
+    # a scrambled Sobol' sequence is drawn point by point: the first k points do not depend on n
+    np.testing.assert_array_equal(unit_design("sobol", 37, 3, seed=1), unit_design("sobol", 100, 3, seed=1)[:37])
     # the design's seed sequence is a one-word child; the trial streams use (trial, purpose) keys
     assert len(design_seed_sequence(1).spawn_key) == 1
     assert len(TrialStreams(1, [0]).sequence(0, "spec.sea.hs_m").spawn_key) == 2

@@ -35,18 +35,23 @@ Points are kept inside ``[2**-53, 1 - 2**-53]`` before the quantile function
 (a scrambled point can be exactly 0, where a normal's quantile is
 ``-inf``); this moves a point by at most ``2**-53``.
 
-Caveats
--------
+Notes
+-----
 * A Sobol' sequence has its balance properties (every elementary interval
   of the right volume holds the same number of points) when ``n`` is a
   power of two. Any ``n`` is accepted: the design takes the first ``n``
   points of the ``2**ceil(log2 n)`` generated (``random_base2``), so no
   warning is raised; with ``n`` not a power of two the design is still
   low-discrepancy but not exactly balanced.
+* A Sobol' design's first ``k`` points do not depend on ``n`` (the
+  scrambling is drawn before any point), so a Sobol' campaign stopped after
+  ``k`` trials has the first ``k`` points of the sequence (balanced when
+  ``k`` is a power of two). A Latin hypercube is stratified only as a whole:
+  its first ``k`` rows are not a Latin hypercube of ``k`` points, and every
+  row changes with ``n``.
 * Unlike plain Monte Carlo, adding, removing or reordering a distributed
   field changes the design values of the other fields (the design is drawn
-  jointly in ``d`` dimensions), and changing ``campaign.trials`` changes
-  every trial's values.
+  jointly in ``d`` dimensions).
 * Trial indices must be below the design size ``n``.
 
 References
