@@ -99,6 +99,23 @@ class SequentialPlan(Params):
     cap is not used in :math:`\\alpha_k`, so raising ``max_trials`` later
     keeps the earlier looks valid. The price is a wider interval than a single
     look at :math:`1 - \\alpha` would give: more trials before a decision.
+
+    This is the elementary union-bound construction of a confidence sequence
+    (intervals that hold at all looks at once, [2]_) over a fixed look
+    schedule. Mixture-martingale confidence sequences [3]_ are narrower at
+    large trial counts and allow a look after every trial; they are not
+    used here.
+
+    References
+    ----------
+    .. [1] C. J. Clopper and E. S. Pearson, "The use of confidence or fiducial
+       limits illustrated in the case of the binomial", Biometrika 26(4),
+       404-413, 1934.
+    .. [2] D. A. Darling and H. Robbins, "Confidence sequences for mean,
+       variance, and median", Proc. Natl. Acad. Sci. USA 58(1), 66-68, 1967.
+    .. [3] S. R. Howard, A. Ramdas, J. McAuliffe and J. Sekhon, "Time-uniform,
+       nonparametric, nonasymptotic confidence sequences", Annals of
+       Statistics 49(2), 1055-1080, 2021.
     """
 
     confidence: float = bounded(0.95, gt=0.0, lt=1.0, doc="two-sided confidence across all looks")
