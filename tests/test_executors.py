@@ -73,3 +73,10 @@ def test_cli_runs_on_worker_processes(tmp_path, spec, inline) -> None:
                  "--workers", "2", "--set", "scenario.duration_s=30.0", "--set", "campaign.batch_size=2"]) == 0  # fmt: skip
     got = pd.read_parquet(out / "metrics.parquet")
     pd.testing.assert_frame_equal(got[inline.metrics.columns], inline.metrics, check_exact=True, check_dtype=False)
+
+
+def test_the_spec_can_name_its_executor(spec, inline) -> None:
+    on_processes = load_spec(example_spec_path("skerrow_sound"), ["scenario.duration_s=30.0", "campaign.batch_size=2",
+                                                                  "campaign.executor=processes"])  # fmt: skip
+    assert on_processes.campaign.executor == "processes"
+    _same(inline, run_campaign(on_processes, trials=5, progress=False, workers=2))

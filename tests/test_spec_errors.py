@@ -175,8 +175,8 @@ CASES = [
     Case("inline craft without propulsion", "craft.differential_thrust",
          "exactly one of [craft.differential_thrust] or [craft.prop_rudder]",
          [("craft", {"name": "Skiff", "hull": HULL})]),
-    Case("unknown executor", "campaign.executor", "must be one of ['inline']",
-         [("campaign.executor", "dask")]),
+    Case("unknown executor", "campaign.executor", "must be one of ['inline', 'processes', 'dask']",
+         [("campaign.executor", "cluster")]),
     Case("flat seabed without depth", "seabed.depth_m", "is required for kind 'flat'",
          [("seabed", {"kind": "flat"})]),
     # not TOML at all

@@ -154,9 +154,9 @@ def build_parser() -> argparse.ArgumentParser:
     run.add_argument("--no-record", action="store_true", help="keep metrics only, no time series")
     run.add_argument("--report", action="store_true", help="also write DIR/report.html")
     run.add_argument("--quiet", action="store_true", help="no progress bar")
-    run.add_argument("--executor", default="inline", choices=("inline", "processes", "dask"),
-                     help="where the batches run: this process (default), local worker processes, or Dask; "
-                          "the results are the same bits")  # fmt: skip
+    run.add_argument("--executor", choices=("inline", "processes", "dask"),
+                     help="where the batches run: this process, local worker processes, or Dask (default: the "
+                          "spec's campaign.executor, inline unless set); the results are the same bits")  # fmt: skip
     run.add_argument("--workers", type=int, help="worker processes (processes) or local Dask workers")
     run.add_argument("--scheduler", metavar="ADDRESS", help="a running Dask scheduler, e.g. tcp://host:8786")
     run.add_argument("--set", action="append", metavar="PATH=VALUE",

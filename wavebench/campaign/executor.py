@@ -220,7 +220,7 @@ def run_campaign(
     guide_factory: Callable[[Any], Any] | None = None,
     pilot_factory: Callable[[Any], Any] | None = None,
     engine: str | None = None,
-    executor: str | Any = "inline",
+    executor: str | Any | None = None,
     workers: int | None = None,
     scheduler: str | None = None,
 ) -> CampaignResult:
@@ -243,11 +243,12 @@ def run_campaign(
     engine : {"fused", "tick", "numpy"}, optional
         How batches are stepped (see :func:`~wavebench.trial.loop.run_batch`);
         the default is the fastest that runs the blocks in use.
-    executor : {"inline", "processes", "dask"} or object
+    executor : {"inline", "processes", "dask"} or object, optional
         Where the chunks run (:mod:`wavebench.campaign.executors`): this
         process, a pool of local worker processes, or a Dask cluster; or any
-        object with an order-preserving ``map(fn, items)``. Results are the
-        same bits whichever is used.
+        object with an order-preserving ``map(fn, items)``. Default: the
+        spec's ``campaign.executor``. Results are the same bits whichever is
+        used.
     workers : int, optional
         Worker processes for "processes", or workers of the local Dask
         cluster started when no ``scheduler`` is given (default: the cores).
@@ -280,7 +281,8 @@ def run_campaign(
     bar = tqdm(total=c.trials, desc="campaign", unit="trial", disable=not progress, smoothing=0.1)
     done = 0
     try:
-        with open_executor(executor, workers=workers, scheduler=scheduler) as ex:
+        with open_executor(c.executor if executor is None else executor, workers=workers,
+                           scheduler=scheduler) as ex:  # fmt: skip
             if ex.in_process:
                 def work(idx: np.ndarray) -> ChunkOutput:
                     return run_chunk(spec, idx, pilot=pilot, record=record, engine=engine,

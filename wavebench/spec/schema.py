@@ -39,8 +39,9 @@ A spec file (TOML) has ``spec_version = 1`` and these tables:
     A metric threshold and the probability of meeting it
     (:class:`~wavebench.spec.tables.RequirementSpec`).
 ``[campaign]`` (required)
-    ``trials`` (>= 1), ``seed`` (>= 0), ``executor``, ``batch_size``,
-    ``record_interval_s``.
+    ``trials`` (>= 1), ``seed`` (>= 0), ``design`` (monte_carlo,
+    latin_hypercube or sobol), ``executor`` (inline, processes or dask),
+    ``batch_size``, ``record_interval_s``.
 
 Numeric fields marked distributable (the per-trial fields of sea, current,
 wind, the mission's speed, start and running depth, the guide's lookahead

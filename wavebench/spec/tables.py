@@ -47,8 +47,8 @@ SIGNAL_NAMES = (
 _ANGLE = Bounds(ge=-360.0, le=360.0)
 _ANY = Bounds()
 
-#: Campaign executors this version provides.
-EXECUTORS = ("inline",)
+#: Campaign executors this version provides (see wavebench.campaign.executors).
+EXECUTORS = ("inline", "processes", "dask")
 
 
 @dataclass(frozen=True, kw_only=True)
