@@ -41,6 +41,9 @@ def _print_summary(result, out: Path) -> None:
         print(verdicts_table_text(result.verdicts))
     else:
         print("no requirements in the spec")
+    if result.sequential:
+        for name, st in result.sequential.items():
+            print(f"sequential: {name}: {st.decision} after {st.n_trials} trials")
     if not result.complete:
         print("INTERRUPTED: the store holds the batches that finished")
     print(f"results in {out}/")
@@ -62,9 +65,17 @@ def _run(args: argparse.Namespace) -> int:
     from .spec.io import load_spec
 
     spec = load_spec(_spec_path(args.spec), args.set or ())
+    until = None
+    if args.until_decided is not None:
+        from .analysis.sequential import SequentialPlan
+
+        every = args.batch_size or spec.campaign.batch_size
+        confidence = max((req.confidence for _, req in spec.requirements), default=0.95)
+        until = SequentialPlan(confidence=confidence, max_trials=args.until_decided, first_look=every,
+                               look_every=every)  # fmt: skip
     result = run_campaign(spec, trials=args.trials, seed=args.seed, batch_size=args.batch_size,
                           record=not args.no_record, progress=not args.quiet, executor=args.executor,
-                          workers=args.workers, scheduler=args.scheduler)  # fmt: skip
+                          workers=args.workers, scheduler=args.scheduler, until=until)  # fmt: skip
     out = write_store(result, args.out)
     if args.report:
         from .report.campaign import write_campaign_report
@@ -159,6 +170,9 @@ def build_parser() -> argparse.ArgumentParser:
                           "spec's campaign.executor, inline unless set); the results are the same bits")  # fmt: skip
     run.add_argument("--workers", type=int, help="worker processes (processes) or local Dask workers")
     run.add_argument("--scheduler", metavar="ADDRESS", help="a running Dask scheduler, e.g. tcp://host:8786")
+    run.add_argument("--until-decided", type=int, metavar="MAX_TRIALS",
+                     help="run batch after batch until every requirement is decided (sequential verdicts, valid "
+                          "under repeated looks) or MAX_TRIALS is reached")  # fmt: skip
     run.add_argument("--set", action="append", metavar="PATH=VALUE",
                      help="change a spec field before the run, e.g. --set stack.navigator=dead_reckoning "
                           "(repeatable; VALUE is a TOML value or a bare word)")  # fmt: skip

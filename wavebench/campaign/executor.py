@@ -59,6 +59,9 @@ class CampaignResult:
     complete : bool
         False when the run was interrupted; the results then hold the
         batches that finished.
+    sequential : dict of str to SequentialStatus, optional
+        With ``until``: each requirement's sequential decision and the
+        trials it needed.
     """
 
     spec: Spec
@@ -68,6 +71,7 @@ class CampaignResult:
     wall_time_s: float
     batch_size: int
     complete: bool = True
+    sequential: dict[str, Any] | None = None
 
 
 def with_overrides(spec: Spec, *, trials: int | None = None, seed: int | None = None,
@@ -223,6 +227,7 @@ def run_campaign(
     executor: str | Any | None = None,
     workers: int | None = None,
     scheduler: str | None = None,
+    until: Any | None = None,
 ) -> CampaignResult:
     """Run a campaign in chunks of ``batch_size`` trials, inline, in local processes or on Dask.
 
@@ -254,6 +259,14 @@ def run_campaign(
         cluster started when no ``scheduler`` is given (default: the cores).
     scheduler : str, optional
         Address of a running Dask scheduler (``"tcp://host:8786"``).
+    until : SequentialPlan, optional
+        Run until every requirement is decided under this plan
+        (:mod:`wavebench.analysis.sequential`: a Clopper-Pearson look at
+        each of the plan's trial counts, valid under repeated looks) or
+        its ``max_trials`` cap, which replaces the campaign's trial count.
+        Chunks already sent to workers when the campaign stops are dropped.
+        Under a Latin-hypercube design an early stop leaves a prefix that is
+        not itself stratified (a Sobol' prefix is).
 
     Returns
     -------
@@ -270,6 +283,14 @@ def run_campaign(
 
     from .executors import open_executor
 
+    monitor = None
+    if until is not None:
+        from ..analysis.sequential import SequentialMonitor
+
+        if not spec.requirements:
+            raise ParameterError("until", "a sequential plan", "needs requirements in the spec to decide")
+        trials = until.max_trials
+        monitor = SequentialMonitor(until, {name: req.probability for name, req in spec.requirements})
     spec = with_overrides(spec, trials=trials, seed=seed, batch_size=batch_size)
     check_spec_against_craft(spec)
     c = spec.campaign
@@ -303,6 +324,10 @@ def run_campaign(
                 done += out.trials.size
                 bar.n = done
                 bar.refresh()
+                if monitor is not None:
+                    monitor.update({name: _met(frames[-1], req) for name, req in spec.requirements})
+                    if monitor.may_stop:
+                        break
         complete = True
     except KeyboardInterrupt:
         warnings.warn("campaign interrupted: keeping the batches that finished", WavebenchWarning, stacklevel=2)
@@ -321,6 +346,17 @@ def run_campaign(
         for name, (units, long_name) in SIGNALS.items():
             if name in timeseries:
                 timeseries[name].attrs.update(units=units, long_name=long_name)
+    if monitor is not None and len(metrics) < c.trials:
+        spec = with_overrides(spec, trials=len(metrics))  # the trials actually run
     verdicts = evaluate_verdicts(spec, metrics) if len(metrics) else []
     return CampaignResult(spec=spec, metrics=metrics, timeseries=timeseries, verdicts=verdicts, wall_time_s=wall,
-                          batch_size=c.batch_size, complete=complete)  # fmt: skip
+                          batch_size=c.batch_size, complete=complete,
+                          sequential=monitor.statuses if monitor is not None else None)  # fmt: skip
+
+
+def _met(frame: Any, req: Any) -> np.ndarray:
+    """Which trials of a chunk meet a requirement (a NaN metric, e.g. a failed trial, does not)."""
+    values = frame[req.metric].to_numpy(dtype=float)
+    with np.errstate(invalid="ignore"):
+        return np.where(np.isnan(values), False, values < req.threshold if req.comparator == "below"
+                        else values > req.threshold)  # fmt: skip
