@@ -64,6 +64,22 @@ def _run(args: argparse.Namespace) -> int:
     from .campaign import run_campaign, write_store
     from .spec.io import load_spec
 
+    record = not args.no_record
+    if args.resume:
+        import json
+
+        given = [f"--{k.replace('_', '-')}" for k in ("spec", "out", "trials", "seed", "batch_size", "set",
+                                                      "until_decided") if getattr(args, k)]  # fmt: skip
+        if given:
+            raise ParameterError("--resume", args.resume,
+                                 f"continues the store's own campaign: drop {', '.join(given)}")  # fmt: skip
+        plan = Path(args.resume) / "chunks" / "plan.json"
+        if not plan.is_file():
+            raise ParameterError("resume", args.resume, "has no unfinished campaign to resume (no chunks/plan.json)")
+        record = bool(json.loads(plan.read_text(encoding="utf-8"))["record"])
+        args.spec, args.out = str(Path(args.resume) / "spec.toml"), args.resume
+    elif not args.spec or not args.out:
+        raise ParameterError("run", "arguments", "needs a SPEC and --out DIR (or --resume DIR)")
     spec = load_spec(_spec_path(args.spec), args.set or ())
     until = None
     if args.until_decided is not None:
@@ -73,10 +89,17 @@ def _run(args: argparse.Namespace) -> int:
         confidence = max((req.confidence for _, req in spec.requirements), default=0.95)
         until = SequentialPlan(confidence=confidence, max_trials=args.until_decided, first_look=every,
                                look_every=every)  # fmt: skip
-    result = run_campaign(spec, trials=args.trials, seed=args.seed, batch_size=args.batch_size,
-                          record=not args.no_record, progress=not args.quiet, executor=args.executor,
-                          workers=args.workers, scheduler=args.scheduler, until=until)  # fmt: skip
-    out = write_store(result, args.out)
+    try:
+        result = run_campaign(spec, trials=args.trials, seed=args.seed, batch_size=args.batch_size, record=record,
+                              progress=not args.quiet, executor=args.executor, workers=args.workers,
+                              scheduler=args.scheduler, until=until, store=args.out,
+                              resume=bool(args.resume))  # fmt: skip
+    except OSError as exc:
+        print(f"wavebench: {exc}", file=sys.stderr)
+        return 1
+    out = Path(args.out)
+    if not result.complete:  # interrupted: the finished chunks stay for --resume; write what there is
+        write_store(result, out)
     if args.report:
         from .report.campaign import write_campaign_report
 
@@ -157,8 +180,10 @@ def build_parser() -> argparse.ArgumentParser:
 
     run = sub.add_parser("run", help="run a campaign from a spec file into a store folder",
                          description="Run a Monte Carlo campaign from a TOML spec; write a store folder.")  # fmt: skip
-    run.add_argument("spec", help="the spec file (TOML), or a built-in scenario's name")
-    run.add_argument("--out", required=True, metavar="DIR", help="store folder to write")
+    run.add_argument("spec", nargs="?", help="the spec file (TOML), or a built-in scenario's name")
+    run.add_argument("--out", metavar="DIR", help="store folder to write (finished batches are kept as they come)")
+    run.add_argument("--resume", metavar="DIR", help="continue the unfinished campaign in DIR: only missing batches "
+                     "run, and the results are the same bits as an uninterrupted run")  # fmt: skip
     run.add_argument("--trials", type=int, help="number of trials (overrides the spec)")
     run.add_argument("--seed", type=int, help="campaign seed (overrides the spec)")
     run.add_argument("--batch-size", type=int, help="trials per vectorised batch (results do not depend on it)")

@@ -15,11 +15,13 @@ from __future__ import annotations
 
 import dataclasses
 import functools
+import os
 import time
 import warnings
 import zlib
 from collections.abc import Callable
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -228,6 +230,8 @@ def run_campaign(
     workers: int | None = None,
     scheduler: str | None = None,
     until: Any | None = None,
+    store: str | os.PathLike[str] | None = None,
+    resume: bool = False,
 ) -> CampaignResult:
     """Run a campaign in chunks of ``batch_size`` trials, inline, in local processes or on Dask.
 
@@ -267,6 +271,15 @@ def run_campaign(
         Chunks already sent to workers when the campaign stops are dropped.
         Under a Latin-hypercube design an early stop leaves a prefix that is
         not itself stratified (a Sobol' prefix is).
+    store : path-like, optional
+        A store folder to write as the campaign runs: every finished chunk is
+        kept on disk (:mod:`wavebench.campaign.chunks`) and the folder is
+        consolidated (:func:`~wavebench.campaign.store.write_store`) when the
+        campaign completes.
+    resume : bool
+        Continue the unfinished campaign in ``store``: the chunks it holds
+        are read back, only the missing ones run, and the result is the same
+        bits as an uninterrupted run.
 
     Returns
     -------
@@ -294,13 +307,25 @@ def run_campaign(
     spec = with_overrides(spec, trials=trials, seed=seed, batch_size=batch_size)
     check_spec_against_craft(spec)
     c = spec.campaign
+    if resume and (store is None or until is not None):
+        raise ParameterError("resume", resume, "needs a store folder, and cannot be combined with a sequential plan")
+    chunks = [np.arange(lo, min(lo + c.batch_size, c.trials)) for lo in range(0, c.trials, c.batch_size)]
+    folder = None
+    stored: dict[str, tuple[Any, Any]] = {}
+    if store is not None:
+        from .chunks import chunk_name, finished_chunks, open_plan
+
+        folder = open_plan(Path(store), spec, record, resume=resume)
+        stored = finished_chunks(folder, record) if resume else {}
+        chunks = [idx for idx in chunks if chunk_name(idx) not in stored]
     pilot = pilot_for(spec, spec.craft.build())
     start = time.perf_counter()
-    frames, records = [], []
+    frames = [frame for frame, _ in stored.values()]
+    records = [ts for _, ts in stored.values() if ts is not None]
     complete = False
-    chunks = [np.arange(lo, min(lo + c.batch_size, c.trials)) for lo in range(0, c.trials, c.batch_size)]
     bar = tqdm(total=c.trials, desc="campaign", unit="trial", disable=not progress, smoothing=0.1)
-    done = 0
+    done = sum(len(frame) for frame in frames)
+    bar.n = done
     try:
         with open_executor(c.executor if executor is None else executor, workers=workers,
                            scheduler=scheduler) as ex:  # fmt: skip
@@ -315,6 +340,15 @@ def run_campaign(
                                          numba_threads=1)  # fmt: skip
                 _check_picklable(work, ex.description)
             for out in ex.map(work, chunks):
+                if folder is not None:
+                    from .chunks import write_chunk
+
+                    try:
+                        write_chunk(folder, out)
+                    except OSError as exc:
+                        raise OSError(f"writing trials {out.trials[0]}-{out.trials[-1]} to {folder} failed "
+                                      f"({exc}); the chunks written before are kept: free space and resume with "
+                                      f"'wavebench run --resume {store}'") from exc  # fmt: skip
                 if out.error is not None:
                     warnings.warn(f"trials {out.trials[0]}-{out.trials[-1]} failed: {out.error}", WavebenchWarning,
                                   stacklevel=2)  # fmt: skip
@@ -334,6 +368,10 @@ def run_campaign(
     finally:
         bar.close()
     wall = time.perf_counter() - start
+    if stored:  # chunks read back and chunks run now, in trial order
+        order = np.argsort([int(f["trial"].iloc[0]) for f in frames], kind="stable")
+        frames = [frames[i] for i in order]
+        records = sorted(records, key=lambda ds: int(ds["trial"].values[0]))
     metrics = pd.concat(frames, ignore_index=True) if frames else pd.DataFrame({"trial": []})
     for name, info in METRICS.items():
         if info.kind == "text" and name in metrics:
@@ -349,9 +387,16 @@ def run_campaign(
     if monitor is not None and len(metrics) < c.trials:
         spec = with_overrides(spec, trials=len(metrics))  # the trials actually run
     verdicts = evaluate_verdicts(spec, metrics) if len(metrics) else []
-    return CampaignResult(spec=spec, metrics=metrics, timeseries=timeseries, verdicts=verdicts, wall_time_s=wall,
-                          batch_size=c.batch_size, complete=complete,
-                          sequential=monitor.statuses if monitor is not None else None)  # fmt: skip
+    result = CampaignResult(spec=spec, metrics=metrics, timeseries=timeseries, verdicts=verdicts, wall_time_s=wall,
+                            batch_size=c.batch_size, complete=complete,
+                            sequential=monitor.statuses if monitor is not None else None)  # fmt: skip
+    if store is not None and complete:
+        from .chunks import clear_chunks
+        from .store import write_store
+
+        write_store(result, store)
+        clear_chunks(Path(store))
+    return result
 
 
 def _met(frame: Any, req: Any) -> np.ndarray:

@@ -1,0 +1,111 @@
+"""A campaign killed at any point resumes from its finished chunks and ends with the uninterrupted bits."""
+
+from __future__ import annotations
+
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pandas as pd
+import pytest
+
+from wavebench.campaign import chunks as chunk_files
+from wavebench.campaign import read_store, run_campaign
+from wavebench.cli import main
+from wavebench.core.errors import ParameterError, WavebenchWarning
+from wavebench.spec import example_spec_path, load_spec
+
+SETTINGS = ["scenario.duration_s=200.0", "campaign.trials=24", "campaign.batch_size=2"]
+CLI_SETTINGS = [arg for s in SETTINGS for arg in ("--set", s)]
+
+
+@pytest.fixture(scope="module")
+def spec():
+    return load_spec(example_spec_path("skerrow_sound"), SETTINGS)
+
+
+@pytest.fixture(scope="module")
+def uninterrupted(spec):
+    return run_campaign(spec, progress=False)
+
+
+def _same_as(store: Path, ref) -> None:
+    got = read_store(store)
+    pd.testing.assert_frame_equal(got["metrics"], ref.metrics, check_exact=True, check_dtype=False)
+    assert got["timeseries"].equals(ref.timeseries)
+    assert got["manifest"]["complete"] and got["manifest"]["trials"] == len(ref.metrics)
+    assert not (store / "chunks").exists()
+
+
+def test_a_killed_campaign_resumes_to_the_same_bits(tmp_path, uninterrupted) -> None:
+    store = tmp_path / "store"
+    code = ("import sys; from wavebench.cli import main; "
+            f"sys.exit(main(['run', 'skerrow_sound', '--out', {str(store)!r}, '--quiet', *{CLI_SETTINGS!r}]))")  # fmt: skip
+    proc = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    try:
+        deadline = time.monotonic() + 300.0
+        while len(list((store / "chunks").glob("metrics-*.parquet"))) < 3:
+            assert proc.poll() is None, "the campaign ended before it could be killed"
+            assert time.monotonic() < deadline, "no chunk written in time"
+            time.sleep(0.05)
+        os.kill(proc.pid, signal.SIGKILL)  # a real kill, mid-campaign
+        proc.wait(timeout=30)
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+    done = len(list((store / "chunks").glob("metrics-*.parquet")))
+    assert 3 <= done < 12, done  # killed part way: some chunks finished, not all
+    assert not (store / "metrics.parquet").exists()
+    with pytest.raises(ParameterError, match="unfinished campaign"):
+        run_campaign(load_spec(example_spec_path("skerrow_sound"), SETTINGS), progress=False, store=store)
+    assert main(["run", "--resume", str(store), "--quiet"]) == 0
+    _same_as(store, uninterrupted)
+
+
+def test_a_corrupted_chunk_runs_again(tmp_path, spec, uninterrupted, monkeypatch) -> None:
+    store = tmp_path / "store"
+    calls = {"n": 0}
+    real = chunk_files.write_chunk
+
+    def full_disk(folder, out):
+        calls["n"] += 1
+        if calls["n"] == 4:
+            raise OSError(28, "No space left on device")
+        real(folder, out)
+
+    monkeypatch.setattr(chunk_files, "write_chunk", full_disk)
+    with pytest.raises(OSError, match=r"No space left on device.*kept.*--resume"):
+        run_campaign(spec, progress=False, store=store)
+    monkeypatch.setattr(chunk_files, "write_chunk", real)
+    written = sorted((store / "chunks").glob("metrics-*.parquet"))
+    assert len(written) == 3  # the chunks finished before the failing write are kept
+    written[1].write_bytes(written[1].read_bytes()[:40])  # a chunk file cut short
+    with pytest.warns(WavebenchWarning, match="cannot be read"):
+        result = run_campaign(spec, progress=False, store=store, resume=True)
+    assert result.complete
+    _same_as(store, uninterrupted)
+
+
+def test_resume_refuses_a_differently_planned_store(tmp_path, spec, monkeypatch) -> None:
+    store = tmp_path / "store"
+    real = chunk_files.write_chunk
+    written = {"n": 0}
+
+    def stop_after_one(folder, out):
+        written["n"] += 1
+        if written["n"] > 1:
+            raise OSError(5, "Input/output error")
+        real(folder, out)
+
+    monkeypatch.setattr(chunk_files, "write_chunk", stop_after_one)
+    with pytest.raises(OSError):
+        run_campaign(spec, progress=False, store=store)
+    monkeypatch.setattr(chunk_files, "write_chunk", real)
+    with pytest.raises(ParameterError, match=r"planned differently \(.*seed: store 20240611, now 20240612"):
+        run_campaign(spec, seed=spec.campaign.seed + 1, progress=False, store=store, resume=True)
+    with pytest.raises(ParameterError, match="no unfinished campaign"):
+        run_campaign(spec, progress=False, store=tmp_path / "empty", resume=True)
+    assert main(["run", "--resume", str(store), "--trials", "3"]) == 2

@@ -1,0 +1,137 @@
+"""Finished chunks on disk as they arrive, so a killed campaign resumes where it stopped.
+
+While a campaign runs into a store folder, every chunk that finishes is
+written to ``DIR/chunks/``: its time series (``ts-<first>-<last>.nc``) and
+then its metrics and draws (``metrics-<first>-<last>.parquet``), each
+written to a temporary name and renamed into place, so a file under its
+final name is always whole. The metrics file is written last: a chunk is
+finished when it exists (and, when the campaign records, its time series
+does too). ``DIR/chunks/plan.json`` records the spec hash, the seed, the
+trial count, the batch size and whether the campaign records, and a resume
+refuses a store planned differently.
+
+:func:`finished_chunks` reads back the chunks that are finished and
+readable; a chunk whose file cannot be read (cut short, corrupted) is left
+out with a warning and runs again. When the campaign completes, the store
+is consolidated into its usual files (``metrics.parquet``,
+``timeseries.nc``, ``verdicts.json``, ``manifest.json``) by
+:func:`~wavebench.campaign.store.write_store`; the chunk files stay until
+then and are removed after it.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import shutil
+import warnings
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from ..core.errors import ParameterError, WavebenchWarning
+from ..spec.io import dump_spec, spec_hash
+from ..spec.schema import Spec
+
+__all__ = ["CHUNKS_DIR", "chunk_name", "clear_chunks", "finished_chunks", "open_plan", "write_chunk"]
+
+#: Folder of the chunk files inside a store.
+CHUNKS_DIR = "chunks"
+
+
+def chunk_name(trials: np.ndarray) -> str:
+    """``<first>-<last>`` of a chunk's trial indices, zero-padded so names sort."""
+    return f"{int(trials[0]):09d}-{int(trials[-1]):09d}"
+
+
+def _plan(spec: Spec, record: bool) -> dict[str, Any]:
+    c = spec.campaign
+    return {"spec_hash": spec_hash(spec), "seed": c.seed, "trials": c.trials, "batch_size": c.batch_size,
+            "record": bool(record)}  # fmt: skip
+
+
+def open_plan(store: Path, spec: Spec, record: bool, *, resume: bool) -> Path:
+    """Create (or, resuming, check) the chunk folder of a store; returns it.
+
+    Raises
+    ------
+    ParameterError
+        A new campaign into a folder holding another campaign's chunks, or a
+        resume whose spec, seed, trials, batch size or recording differ from
+        the store's plan.
+    """
+    folder = store / CHUNKS_DIR
+    plan_file = folder / "plan.json"
+    want = _plan(spec, record)
+    if plan_file.exists():
+        have = json.loads(plan_file.read_text(encoding="utf-8"))
+        if have != want:
+            diff = ", ".join(f"{k}: store {have.get(k)!r}, now {want[k]!r}" for k in want if have.get(k) != want[k])
+            raise ParameterError("resume", str(store), f"the store was planned differently ({diff})")
+        if not resume:
+            raise ParameterError("out", str(store), "holds an unfinished campaign: resume it with --resume, or "
+                                 "choose another folder")  # fmt: skip
+        return folder
+    if resume:
+        raise ParameterError("resume", str(store), "has no unfinished campaign to resume (no chunks/plan.json)")
+    folder.mkdir(parents=True, exist_ok=True)
+    (store / "spec.toml").write_text(dump_spec(spec), encoding="utf-8")
+    _atomic_write_text(plan_file, json.dumps(want, indent=1))
+    return folder
+
+
+def _atomic_write_text(path: Path, text: str) -> None:
+    tmp = path.with_name(path.name + ".tmp")
+    tmp.write_text(text, encoding="utf-8")
+    os.replace(tmp, path)
+
+
+def write_chunk(folder: Path, out: Any) -> None:
+    """Write one finished chunk (a :class:`~wavebench.campaign.executor.ChunkOutput`): time series, then metrics.
+
+    Raises
+    ------
+    OSError
+        When the disk refuses the write (full, read-only): the campaign
+        stops and says so; chunks already written stay.
+    """
+    import pandas as pd
+
+    name = chunk_name(out.trials)
+    if out.record is not None:
+        ts = folder / f"ts-{name}.nc"
+        tmp = folder / f"ts-{name}.nc.tmp"
+        out.record.to_netcdf(tmp, engine="h5netcdf")
+        os.replace(tmp, ts)
+    frame = pd.DataFrame({"trial": out.trials.astype(np.int64), **out.columns})
+    tmp = folder / f"metrics-{name}.parquet.tmp"
+    frame.to_parquet(tmp, index=False)
+    os.replace(tmp, folder / f"metrics-{name}.parquet")
+
+
+def finished_chunks(folder: Path, record: bool) -> dict[str, tuple[Any, Any]]:
+    """The chunks already finished and readable: ``{name: (metrics frame, time series or None)}``."""
+    import pandas as pd
+    import xarray as xr
+
+    done: dict[str, tuple[Any, Any]] = {}
+    for path in sorted(folder.glob("metrics-*.parquet")):
+        name = path.name[len("metrics-") : -len(".parquet")]
+        try:
+            frame = pd.read_parquet(path)
+            ts = None
+            if record:
+                with xr.open_dataset(folder / f"ts-{name}.nc", engine="h5netcdf") as ds:
+                    ts = ds.load()
+        except (OSError, ValueError, KeyError) as exc:
+            warnings.warn(f"chunk {name} of {folder.parent} cannot be read ({type(exc).__name__}: {exc}); "
+                          "it runs again", WavebenchWarning, stacklevel=2)  # fmt: skip
+            continue
+        done[name] = (frame, ts)
+    return done
+
+
+def clear_chunks(store: Path) -> None:
+    """Remove the chunk folder once the store is consolidated."""
+    shutil.rmtree(store / CHUNKS_DIR, ignore_errors=True)
