@@ -26,7 +26,15 @@ from numpy.typing import ArrayLike
 from ..core.errors import ParameterError
 from .svg import PALETTE, Series, Svg, _fmt, nice_ticks
 
-__all__ = ["band_chart", "histogram_chart", "histogram_counts"]
+__all__ = [
+    "SHARE_COLORS",
+    "band_chart",
+    "histogram_chart",
+    "histogram_counts",
+    "share_color",
+    "share_matrix_chart",
+    "signed_bar_chart",
+]
 
 _BG = "#fbfbf8"
 _GRID = "#e2e2dc"
@@ -477,5 +485,244 @@ def band_chart(
             )
         out.append(f'<text x="{X + 20:.1f}" y="{Y}">{html.escape(label)}</text>')
         X += 20 + _text_width(label) + 14
+    out.append("</svg>")
+    return Svg("\n".join(out))
+
+
+def signed_bar_chart(
+    labels: Sequence[str],
+    values: ArrayLike,
+    *,
+    muted: Sequence[bool] | None = None,
+    title: str = "",
+    xlabel: str = "",
+    xlim: tuple[float, float] = (-1.0, 1.0),
+    color_pos: str | None = None,
+    color_neg: str | None = None,
+    width: int = 540,
+    bar_height: int = 18,
+) -> Svg:
+    """Render horizontal bars from zero, one row per label, in the order given.
+
+    Parameters
+    ----------
+    labels : sequence of str
+        Row labels, top to bottom.
+    values : array_like of shape (n,)
+        Signed bar lengths in data units (e.g. a rank correlation); NaN
+        draws no bar and the text "undefined".
+    muted : sequence of bool, optional
+        Rows drawn pale (e.g. not significant).
+    title, xlabel : str
+        Texts.
+    xlim : (float, float)
+        Range of the value axis; must contain 0.
+    color_pos, color_neg : str, optional
+        Colours of positive and negative bars (palette colours by default).
+    width : int
+        Width [px]; the height follows the number of rows.
+    bar_height : int
+        Height of one row [px].
+
+    Returns
+    -------
+    Svg
+        An ``<svg>`` element; each bar is ``<rect class="hbar">`` with the
+        row label in ``data-label``, the exact value in ``data-value`` and
+        ``data-muted`` ("1" or "0").
+
+    Examples
+    --------
+    >>> svg = signed_bar_chart(["a", "b"], [0.5, -0.25], muted=[False, True])
+    >>> svg.count('class="hbar"'), 'data-muted="1"' in svg
+    (2, True)
+    """
+    names = [str(s) for s in labels]
+    v = np.asarray(values, dtype=float).ravel()
+    if v.size != len(names):
+        raise ParameterError("values", v.shape, f"one value per label ({len(names)})")
+    dim = [False] * len(names) if muted is None else [bool(m) for m in muted]
+    if len(dim) != len(names):
+        raise ParameterError("muted", muted, f"one flag per label ({len(names)})")
+    lo, hi = float(xlim[0]), float(xlim[1])
+    if not (math.isfinite(lo) and math.isfinite(hi) and lo <= 0.0 <= hi and lo < hi):
+        raise ParameterError("xlim", xlim, "finite (low, high) with low <= 0 <= high and low < high")
+    rows = max(len(names), 1)
+    left = int(min(max(_text_width(max(names, key=len, default="")) + 14, 80), 0.5 * width))
+    top = 30 if title else 12
+    height = top + rows * bar_height + 44
+    _check_size(width, max(height, 120))
+    height = max(height, 120)
+    ax = _Axes(width=width, height=height, top=top, xlim=(lo, hi), ylim=(0.0, float(rows)), left=left,
+               bottom=height - top - rows * bar_height)  # fmt: skip
+    out = ax.open(title)
+    for t in nice_ticks(lo, hi):
+        X = float(ax.px(t))
+        out.append(f'<line x1="{X:.1f}" y1="{ax.top}" x2="{X:.1f}" y2="{ax.top + ax.ph}" stroke="{_GRID}"/>')
+        out.append(f'<text x="{X:.1f}" y="{ax.top + ax.ph + 14}" text-anchor="middle">{_fmt(t)}</text>')
+    out.append(
+        f'<text x="{ax.left + ax.pw / 2:.1f}" y="{height - 8}" text-anchor="middle">{html.escape(xlabel)}</text>'
+    )
+    X0 = float(ax.px(0.0))
+    out.append(f'<line x1="{X0:.1f}" y1="{ax.top}" x2="{X0:.1f}" y2="{ax.top + ax.ph}" stroke="{_FRAME}"/>')
+    pos, neg = color_pos or PALETTE[1], color_neg or PALETTE[0]
+    for k, (name, val, m) in enumerate(zip(names, v, dim, strict=True)):
+        y = ax.top + k * bar_height
+        ink = ' fill="#999"' if m else ""
+        Y = y + bar_height / 2 + 4
+        out.append(f'<text x="{ax.left - 6}" y="{Y:.1f}" text-anchor="end"{ink}>{html.escape(name)}</text>')
+        if not math.isfinite(val):
+            out.append(f'<text x="{X0 + 4:.1f}" y="{y + bar_height / 2 + 4:.1f}" fill="#999">undefined</text>')
+            continue
+        Xv = float(ax.px(min(max(val, lo), hi)))
+        xa, xb = min(X0, Xv), max(X0, Xv)
+        out.append(
+            f'<rect class="hbar" x="{xa:.2f}" y="{y + 3:.1f}" width="{xb - xa:.2f}" height="{bar_height - 6}" '
+            f'fill="{pos if val > 0 else neg}" fill-opacity="{0.25 if m else 0.9}" '
+            f'data-label="{html.escape(name)}" data-value="{float(val)!r}" data-muted="{int(m)}">'
+            f"<title>{html.escape(name)}: {html.escape(_fmt(float(val)))}</title></rect>"
+        )
+    out.append("</svg>")
+    return Svg("\n".join(out))
+
+
+def _mix(c0: str, c1: str, f: float) -> str:
+    a = [int(c0[i : i + 2], 16) for i in (1, 3, 5)]
+    b = [int(c1[i : i + 2], 16) for i in (1, 3, 5)]
+    return "#" + "".join(f"{round(x + (y - x) * f):02x}" for x, y in zip(a, b, strict=True))
+
+
+#: Colours of a share 0, 0.5 and 1 in :func:`share_matrix_chart`.
+SHARE_COLORS = ("#c8553d", "#f4f1e8", "#1b6f8a")
+
+
+def share_color(share: float) -> str:
+    """The fill colour of a share in [0, 1] (low: rust, middle: pale, high: teal).
+
+    Examples
+    --------
+    >>> share_color(0.0), share_color(1.0)
+    ('#c8553d', '#1b6f8a')
+    """
+    s = min(max(float(share), 0.0), 1.0)
+    if s <= 0.5:
+        return _mix(SHARE_COLORS[0], SHARE_COLORS[1], s / 0.5)
+    return _mix(SHARE_COLORS[1], SHARE_COLORS[2], (s - 0.5) / 0.5)
+
+
+def share_matrix_chart(
+    x_edges: ArrayLike,
+    y_edges: ArrayLike,
+    met: ArrayLike,
+    count: ArrayLike,
+    *,
+    min_count: int = 5,
+    title: str = "",
+    xlabel: str = "",
+    ylabel: str = "",
+    width: int = 540,
+    height: int = 340,
+) -> Svg:
+    """Render a matrix of cells coloured by a share ``met / count``, with the count in each cell.
+
+    Parameters
+    ----------
+    x_edges : array_like of shape (nx + 1,)
+        Increasing column edges (e.g. wave direction [deg]).
+    y_edges : array_like of shape (ny + 1,)
+        Increasing row edges (e.g. Hs [m]); the lowest row is drawn at the bottom.
+    met, count : array_like of shape (ny, nx), int
+        Trials that met a requirement, and all trials, per cell.
+    min_count : int
+        Cells with fewer trials than this are hatched grey and labelled "too few".
+    title, xlabel, ylabel : str
+        Texts.
+    width, height : int
+        Size [px].
+
+    Returns
+    -------
+    Svg
+        An ``<svg>`` element; each cell is ``<rect class="cell">`` with its
+        edges in ``data-x0``, ``data-x1``, ``data-y0``, ``data-y1``, its
+        counts in ``data-met`` and ``data-count``, and ``data-few`` ("1" when
+        hatched).
+
+    Examples
+    --------
+    >>> svg = share_matrix_chart([0, 30, 60], [0.5, 1.0], [[3, 1]], [[6, 2]])
+    >>> svg.count('class="cell"'), svg.count('data-few="1"')
+    (2, 1)
+    """
+    _check_size(width, height)
+    xe, ye = np.asarray(x_edges, dtype=float), np.asarray(y_edges, dtype=float)
+    for name, e in (("x_edges", xe), ("y_edges", ye)):
+        if e.ndim != 1 or e.size < 2 or not np.all(np.isfinite(e)) or np.any(np.diff(e) <= 0):
+            raise ParameterError(name, e, "an increasing sequence of at least 2 finite edges")
+    k = np.asarray(met, dtype=np.int64)
+    n = np.asarray(count, dtype=np.int64)
+    shape = (ye.size - 1, xe.size - 1)
+    if k.shape != shape or n.shape != shape or np.any(k < 0) or np.any(k > n):
+        raise ParameterError("met", (k.shape, n.shape), f"arrays of shape {shape} with 0 <= met <= count")
+    top = 30 if title else 12
+    ax = _Axes(width=width, height=height, top=top + 22, xlim=(0.0, float(shape[1])), ylim=(0.0, float(shape[0])),
+               left=70)  # fmt: skip
+    out = ax.open(title)
+    hatch = _uid("hatch", xe, ye, n, k, title)
+    out.append(
+        f'<defs><pattern id="{hatch}" width="6" height="6" patternUnits="userSpaceOnUse" '
+        f'patternTransform="rotate(45)"><rect width="6" height="6" fill="#eeeeea"/>'
+        f'<line x1="0" y1="0" x2="0" y2="6" stroke="#bbb" stroke-width="2"/></pattern></defs>'
+    )
+    for j in range(shape[0]):
+        for i in range(shape[1]):
+            xa, xb = float(ax.px(i)), float(ax.px(i + 1))
+            ya, yb = float(ax.py(j + 1)), float(ax.py(j))
+            c, m = int(n[j, i]), int(k[j, i])
+            few = c < min_count
+            fill = f"url(#{hatch})" if few else share_color(m / c)
+            out.append(
+                f'<rect class="cell" x="{xa:.2f}" y="{ya:.2f}" width="{xb - xa:.2f}" height="{yb - ya:.2f}" '
+                f'fill="{fill}" stroke="#fff" stroke-width="1.5" data-x0="{float(xe[i])!r}" '
+                f'data-x1="{float(xe[i + 1])!r}" data-y0="{float(ye[j])!r}" data-y1="{float(ye[j + 1])!r}" '
+                f'data-met="{m}" data-count="{c}" data-few="{int(few)}"/>'
+            )
+            cx, cy = 0.5 * (xa + xb), 0.5 * (ya + yb)
+            if few:
+                lines = [f"n = {c}", "too few"]
+                ink = "#666"
+            else:
+                lines = [f"{m / c:.2f}", f"n = {c}"]
+                ink = "#fff" if abs(m / c - 0.5) > 0.3 else "#222"
+            out.append(
+                f'<text x="{cx:.1f}" y="{cy - 2:.1f}" text-anchor="middle" fill="{ink}">{lines[0]}</text>'
+                f'<text x="{cx:.1f}" y="{cy + 11:.1f}" text-anchor="middle" fill="{ink}" font-size="10">'
+                f"{lines[1]}</text>"
+            )
+    for i in range(xe.size):
+        X = float(ax.px(i))
+        label = _fmt(float(xe[i]))
+        out.append(f'<text x="{X:.1f}" y="{ax.top + ax.ph + 14}" text-anchor="middle">{label}</text>')
+    for j in range(ye.size):
+        Y = float(ax.py(j))
+        out.append(f'<text x="{ax.left - 6}" y="{Y + 4:.1f}" text-anchor="end">{_fmt(round(float(ye[j]), 3))}</text>')
+    out.append(
+        f'<text x="{ax.left + ax.pw / 2:.1f}" y="{height - 8}" text-anchor="middle">{html.escape(xlabel)}</text>'
+    )
+    out.append(
+        f'<text x="14" y="{ax.top + ax.ph / 2:.1f}" text-anchor="middle" '
+        f'transform="rotate(-90 14 {ax.top + ax.ph / 2:.1f})">{html.escape(ylabel)}</text>'
+    )
+    # legend: share swatches between the title and the plot
+    X = float(ax.left)
+    Y = ax.top - 8
+    out.append(f'<text x="{X:.1f}" y="{Y}">share met:</text>')
+    X += 70
+    for s in (0.0, 0.25, 0.5, 0.75, 1.0):
+        out.append(f'<rect x="{X:.1f}" y="{Y - 9}" width="14" height="11" fill="{share_color(s)}" stroke="#ccc"/>')
+        out.append(f'<text x="{X + 17:.1f}" y="{Y}">{s:g}</text>')
+        X += 48
+    out.append(f'<rect x="{X:.1f}" y="{Y - 9}" width="14" height="11" fill="url(#{hatch})" stroke="#ccc"/>')
+    out.append(f'<text x="{X + 17:.1f}" y="{Y}">fewer than {int(min_count)} trials</text>')
     out.append("</svg>")
     return Svg("\n".join(out))
