@@ -109,3 +109,10 @@ def test_resume_refuses_a_differently_planned_store(tmp_path, spec, monkeypatch)
     with pytest.raises(ParameterError, match="no unfinished campaign"):
         run_campaign(spec, progress=False, store=tmp_path / "empty", resume=True)
     assert main(["run", "--resume", str(store), "--trials", "3"]) == 2
+
+
+def test_a_stored_campaign_reads_its_time_series_from_disk(tmp_path, spec, uninterrupted) -> None:
+    # with a store, chunks' time series are consolidated from disk and the result reads the file lazily
+    result = run_campaign(spec, progress=False, store=tmp_path / "store")
+    assert result.timeseries.encoding["source"].endswith("timeseries.nc")
+    assert result.timeseries.equals(uninterrupted.timeseries)

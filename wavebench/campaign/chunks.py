@@ -13,8 +13,10 @@ refuses a store planned differently.
 :func:`finished_chunks` reads back the chunks that are finished and
 readable; a chunk whose file cannot be read (cut short, corrupted) is left
 out with a warning and runs again. When the campaign completes, the store
-is consolidated into its usual files (``metrics.parquet``,
-``timeseries.nc``, ``verdicts.json``, ``manifest.json``) by
+is consolidated into its usual files: ``timeseries.nc`` streamed from the
+chunk files one chunk at a time (:func:`consolidate_timeseries`, so a
+campaign of any size never holds all its time series in memory), then
+``metrics.parquet``, ``verdicts.json`` and ``manifest.json`` by
 :func:`~wavebench.campaign.store.write_store`; the chunk files stay until
 then and are removed after it.
 """
@@ -34,7 +36,15 @@ from ..core.errors import ParameterError, WavebenchWarning
 from ..spec.io import dump_spec, spec_hash
 from ..spec.schema import Spec
 
-__all__ = ["CHUNKS_DIR", "chunk_name", "clear_chunks", "finished_chunks", "open_plan", "write_chunk"]
+__all__ = [
+    "CHUNKS_DIR",
+    "chunk_name",
+    "clear_chunks",
+    "consolidate_timeseries",
+    "finished_chunks",
+    "open_plan",
+    "write_chunk",
+]
 
 #: Folder of the chunk files inside a store.
 CHUNKS_DIR = "chunks"
@@ -111,7 +121,7 @@ def write_chunk(folder: Path, out: Any) -> None:
 
 
 def finished_chunks(folder: Path, record: bool) -> dict[str, tuple[Any, Any]]:
-    """The chunks already finished and readable: ``{name: (metrics frame, time series or None)}``."""
+    """The chunks already finished and readable: ``{name: (metrics frame, trials in its time series or None)}``."""
     import pandas as pd
     import xarray as xr
 
@@ -121,9 +131,11 @@ def finished_chunks(folder: Path, record: bool) -> dict[str, tuple[Any, Any]]:
         try:
             frame = pd.read_parquet(path)
             ts = None
-            if record:
+            if record:  # readable and whole; the values stay on disk until consolidation
                 with xr.open_dataset(folder / f"ts-{name}.nc", engine="h5netcdf") as ds:
-                    ts = ds.load()
+                    ts = int(ds.sizes["trial"])
+                if ts != len(frame):
+                    raise ValueError(f"{ts} trials in the time series, {len(frame)} in the metrics")
         except (OSError, ValueError, KeyError) as exc:
             warnings.warn(f"chunk {name} of {folder.parent} cannot be read ({type(exc).__name__}: {exc}); "
                           "it runs again", WavebenchWarning, stacklevel=2)  # fmt: skip
@@ -135,3 +147,55 @@ def finished_chunks(folder: Path, record: bool) -> dict[str, tuple[Any, Any]]:
 def clear_chunks(store: Path) -> None:
     """Remove the chunk folder once the store is consolidated."""
     shutil.rmtree(store / CHUNKS_DIR, ignore_errors=True)
+
+
+def consolidate_timeseries(folder: Path, names: list[str], out_path: Path, attrs: dict[str, Any]) -> None:
+    """Write the chunks' time series into one NetCDF file, one chunk in memory at a time.
+
+    Parameters
+    ----------
+    folder : Path
+        The chunk folder.
+    names : list of str
+        Chunk names in trial order (:func:`chunk_name`).
+    out_path : Path
+        The store's ``timeseries.nc`` (written to a temporary name, then renamed into place).
+    attrs : dict
+        Global attributes (spec hash, scenario, decimation).
+    """
+    import h5netcdf
+    import xarray as xr
+
+    from ..trial.recorder import SIGNALS
+
+    sizes = []
+    for name in names:
+        with xr.open_dataset(folder / f"ts-{name}.nc", engine="h5netcdf") as ds:
+            sizes.append(ds.sizes["trial"])
+            if not sizes[1:]:
+                time = ds["time"].values
+                signals = [v for v in ds.data_vars]
+    tmp = out_path.with_name(out_path.name + ".tmp")
+    with h5netcdf.File(tmp, "w") as f:
+        f.dimensions = {"trial": int(sum(sizes)), "time": int(time.size)}
+        tr = f.create_variable("trial", ("trial",), "i8")
+        tr.attrs["long_name"] = "trial index in the campaign"
+        tm = f.create_variable("time", ("time",), "f8")
+        tm[:] = time
+        tm.attrs["units"], tm.attrs["long_name"] = "s", "time since start"
+        out = {}
+        for name in signals:
+            var = f.create_variable(name, ("trial", "time"), "f4", fillvalue=np.float32(np.nan))
+            units, long_name = SIGNALS.get(name, ("", name))
+            var.attrs["units"], var.attrs["long_name"] = units, long_name
+            out[name] = var
+        for key, value in attrs.items():
+            f.attrs[key] = value
+        lo = 0
+        for name, k in zip(names, sizes, strict=True):
+            with xr.open_dataset(folder / f"ts-{name}.nc", engine="h5netcdf") as ds:
+                tr[lo : lo + k] = ds["trial"].values
+                for sig in signals:
+                    out[sig][lo : lo + k, :] = ds[sig].values
+            lo += k
+    os.replace(tmp, out_path)

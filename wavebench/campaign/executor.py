@@ -275,7 +275,8 @@ def run_campaign(
         A store folder to write as the campaign runs: every finished chunk is
         kept on disk (:mod:`wavebench.campaign.chunks`) and the folder is
         consolidated (:func:`~wavebench.campaign.store.write_store`) when the
-        campaign completes.
+        campaign completes. The time series then never sit in memory all at
+        once: the result's ``timeseries`` is the store's file, opened lazily.
     resume : bool
         Continue the unfinished campaign in ``store``: the chunks it holds
         are read back, only the missing ones run, and the result is the same
@@ -321,7 +322,7 @@ def run_campaign(
     pilot = pilot_for(spec, spec.craft.build())
     start = time.perf_counter()
     frames = [frame for frame, _ in stored.values()]
-    records = [ts for _, ts in stored.values() if ts is not None]
+    records = []  # with a store, time series stay on disk and are consolidated at the end
     complete = False
     bar = tqdm(total=c.trials, desc="campaign", unit="trial", disable=not progress, smoothing=0.1)
     done = sum(len(frame) for frame in frames)
@@ -353,7 +354,7 @@ def run_campaign(
                     warnings.warn(f"trials {out.trials[0]}-{out.trials[-1]} failed: {out.error}", WavebenchWarning,
                                   stacklevel=2)  # fmt: skip
                 frames.append(pd.DataFrame({"trial": out.trials.astype(np.int64), **out.columns}))
-                if out.record is not None:
+                if out.record is not None and folder is None:
                     records.append(out.record)
                 done += out.trials.size
                 bar.n = done
@@ -371,16 +372,22 @@ def run_campaign(
     if stored:  # chunks read back and chunks run now, in trial order
         order = np.argsort([int(f["trial"].iloc[0]) for f in frames], kind="stable")
         frames = [frames[i] for i in order]
-        records = sorted(records, key=lambda ds: int(ds["trial"].values[0]))
     metrics = pd.concat(frames, ignore_index=True) if frames else pd.DataFrame({"trial": []})
     for name, info in METRICS.items():
         if info.kind == "text" and name in metrics:
             metrics[name] = metrics[name].astype(str)
     timeseries = None
-    if record and records:
+    ts_attrs = {"spec_hash": spec_hash(spec), "scenario": spec.scenario.name,
+                "decimation_s": float(spec.campaign.record_interval_s)}  # fmt: skip
+    if folder is not None and record and complete and frames:
+        from .chunks import chunk_name, consolidate_timeseries
+
+        names = sorted(chunk_name(f["trial"].to_numpy()) for f in frames)
+        consolidate_timeseries(folder, names, Path(store) / "timeseries.nc", ts_attrs)
+        timeseries = xr.open_dataset(Path(store) / "timeseries.nc", engine="h5netcdf")  # read lazily
+    elif record and records:
         timeseries = xr.concat(records, dim="trial")
-        timeseries.attrs.update(spec_hash=spec_hash(spec), scenario=spec.scenario.name,
-                                decimation_s=float(spec.campaign.record_interval_s))  # fmt: skip
+        timeseries.attrs.update(ts_attrs)
         for name, (units, long_name) in SIGNALS.items():
             if name in timeseries:
                 timeseries[name].attrs.update(units=units, long_name=long_name)
@@ -394,7 +401,7 @@ def run_campaign(
         from .chunks import clear_chunks
         from .store import write_store
 
-        write_store(result, store)
+        write_store(result, store, timeseries_written=True)
         clear_chunks(Path(store))
     return result
 

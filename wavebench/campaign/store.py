@@ -56,7 +56,7 @@ def package_versions() -> dict[str, str]:
     return out
 
 
-def write_store(result: CampaignResult, out_dir: str | os.PathLike[str]) -> Path:
+def write_store(result: CampaignResult, out_dir: str | os.PathLike[str], *, timeseries_written: bool = False) -> Path:
     """Write a campaign's results to a store folder (created if needed).
 
     Parameters
@@ -64,6 +64,9 @@ def write_store(result: CampaignResult, out_dir: str | os.PathLike[str]) -> Path
     result : CampaignResult
     out_dir : path-like
         The folder; existing store files in it are replaced.
+    timeseries_written : bool
+        ``timeseries.nc`` is already in place (streamed from a campaign's
+        chunks); leave it as it is.
 
     Returns
     -------
@@ -78,7 +81,9 @@ def write_store(result: CampaignResult, out_dir: str | os.PathLike[str]) -> Path
     (out / "spec.toml").write_text(dump_spec(spec), encoding="utf-8")
     result.metrics.to_parquet(out / "metrics.parquet", index=False)
     nc = out / "timeseries.nc"
-    if result.timeseries is not None:
+    if timeseries_written:
+        pass
+    elif result.timeseries is not None:
         result.timeseries.to_netcdf(nc, engine="h5netcdf")
     elif nc.exists():
         nc.unlink()
