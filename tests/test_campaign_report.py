@@ -242,12 +242,14 @@ def test_full_store_report(tmp_path: Path) -> None:
     ]
     assert "<limit>" not in page
 
-    # charts: 5 histograms (min_depth_under_keel_m is all NaN), the band chart, the tracks
-    svgs = _svgs(page)
+    # charts before the parameters (the study sections after them have their own tests in test_report_study.py):
+    # 5 histograms (min_depth_under_keel_m is all NaN), the band chart, the tracks
+    head = page[: page.index('<section id="parameters">')]
+    svgs = _svgs(head)
     titles = [_title(s) for s in svgs]
     assert titles == ["xte_p95_m", "xte_max_m", "heading_err_rms_deg", "energy_kj", "time_to_complete_s",
                       "Cross-track error across trials", f"Tracks of {30} trials"]  # fmt: skip
-    assert page.count("<svg") == len(svgs)
+    assert head.count("<svg") == len(svgs)
     # the requirement threshold is drawn on the histograms of the metrics that have one
     marks = {_title(s): [float(el.get("data-value")) for el in s.iter() if el.get("class") == "threshold"]
              for s in svgs[:5]}  # fmt: skip
@@ -275,7 +277,7 @@ def test_store_without_timeseries_and_verdicts(tmp_path: Path) -> None:
     assert "no substitute for sea trials" in page
     assert "No requirements in the spec" in page and "verdict-row" not in page
     assert "timeseries.nc is not in the store" in page
-    titles = [_title(s) for s in _svgs(page)]
+    titles = [_title(s) for s in _svgs(page[: page.index('<section id="parameters">')])]
     assert titles == ["xte_p95_m", "xte_max_m", "heading_err_rms_deg", "energy_kj", "time_to_complete_s"]
     # an empty verdicts.json says the same
     (store / "verdicts.json").write_text("[]", encoding="utf-8")

@@ -8,7 +8,9 @@ caution, a run summary, the requirement verdicts with their confidence
 intervals, how the trials ended and why some failed, histograms of the main
 metrics, cross-track-error percentile bands over time, a tracks plot, the
 navigation sections of :mod:`wavebench.report.navigation` when a navigator
-ran, and the ranges of the drawn parameters. :func:`write_campaign_report`
+ran, the ranges of the drawn parameters, and the study sections of
+:mod:`wavebench.report.study` (what drives the results, operability, the
+trials closest to failing). :func:`write_campaign_report`
 writes it to ``DIR/report.html``.
 
 Every text taken from the store is HTML-escaped.
@@ -33,6 +35,7 @@ from ..core.errors import ParameterError
 from .charts import band_chart, histogram_chart
 from .html import CAUTION
 from .navigation import NAV_METRICS, navigation_sections
+from .study import STUDY_CSS, study_sections
 from .svg import PALETTE, Series, line_chart
 
 __all__ = ["campaign_report_html", "nan_percentiles", "write_campaign_report"]
@@ -670,6 +673,8 @@ def campaign_report_html(store_dir: str | os.PathLike[str]) -> str:
         sections += [("xte", "Cross-track error"), ("tracks", "Tracks")]
     sections += [(anchor, text) for anchor, text, _ in nav_sections]
     sections.append(("parameters", "Parameters"))
+    extra = study_sections(metrics, spec, verdicts)
+    sections += [(anchor, text) for anchor, text, _ in extra]
     nav = "<nav>" + "".join(f'<a href="#{a}">{_esc(b)}</a>' for a, b in sections) + "</nav>"
 
     body = [
@@ -693,6 +698,7 @@ def campaign_report_html(store_dir: str | os.PathLike[str]) -> str:
             "no cross-track-error bands and no tracks.</p></section>"
         )
     body.append(_parameters_section(metrics, spec))
+    body += [section for _, _, section in extra]
     body.append(
         f"<footer>Written by wavebench from the store files; self-contained (no script, no network). "
         f"{_esc(CAUTION)}</footer>"
@@ -702,7 +708,7 @@ def campaign_report_html(store_dir: str | os.PathLike[str]) -> str:
             "<!DOCTYPE html>",
             '<html lang="en"><head><meta charset="utf-8">',
             '<meta name="viewport" content="width=device-width, initial-scale=1">',
-            f"<title>{_esc(title)}</title><style>{_CSS}</style></head><body>",
+            f"<title>{_esc(title)}</title><style>{_CSS}{STUDY_CSS}</style></head><body>",
             *body,
             "</body></html>",
         ]
