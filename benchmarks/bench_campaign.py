@@ -61,6 +61,8 @@ def main() -> None:
     ap.add_argument("--scenario", default="skerrow_sound")
     ap.add_argument("--ekf", action="store_true", help="add GNSS, compass and IMU sensors and the EKF navigator")
     ap.add_argument("--set", action="append", default=[], metavar="PATH=VALUE", help="change a spec field")
+    ap.add_argument("--executor", default="inline", choices=("inline", "processes", "dask"))
+    ap.add_argument("--workers", type=int, default=None, help="worker processes for processes / dask")
     args = ap.parse_args()
     settings = (EKF_SETTINGS if args.ekf else []) + args.set
     spec = load_spec(example_spec_path(args.scenario), settings)
@@ -77,7 +79,8 @@ def main() -> None:
     t_ref = time.perf_counter() - t0
     rate_ref = _steps(ref) / t_ref
     t0 = time.perf_counter()
-    res = run_campaign(spec, trials=args.trials, batch_size=args.batch_size, progress=False)
+    res = run_campaign(spec, trials=args.trials, batch_size=args.batch_size, progress=False, executor=args.executor,
+                       workers=args.workers)  # fmt: skip
     t_run = time.perf_counter() - t0
     steps = _steps(res)
     rate = steps / t_run
@@ -86,7 +89,8 @@ def main() -> None:
           f"({n_steps} steps), K = {spec.sea.n_components}, recording every {spec.campaign.record_interval_s} s")  # fmt: skip
     print(f"per-trial reference: {args.reference_trials} trials one at a time, {t_ref:.2f} s, "
           f"{rate_ref:,.0f} trial-steps/s")  # fmt: skip
-    print(f"campaign: {args.trials} trials, batch {args.batch_size}: {t_run:.2f} s wall, {steps:,} trial-steps "
+    print(f"campaign ({args.executor}{f' x {args.workers}' if args.workers else ''}): {args.trials} trials, "
+          f"batch {args.batch_size}: {t_run:.2f} s wall, {steps:,} trial-steps "
           f"simulated ({steps / (args.trials * n_steps):.0%} of trials x steps), {rate:,.0f} trial-steps/s, "
           f"ratio {rate / rate_ref:.1f}x the per-trial loop")  # fmt: skip
     print("ended:", res.metrics["ended"].value_counts().to_dict())
