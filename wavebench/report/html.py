@@ -3,9 +3,11 @@
 from __future__ import annotations
 
 import html
+import math
 from collections.abc import Sequence
+from typing import Any
 
-__all__ = ["CAUTION", "html_page"]
+__all__ = ["CAUTION", "cell_number", "escape", "html_page"]
 
 #: The caution every report carries.
 CAUTION = (
@@ -55,3 +57,25 @@ def html_page(title: str, sections: Sequence[tuple[str, str, Sequence[str]]]) ->
             parts.append('<div class="figs">' + "".join(svgs) + "</div>")
     parts.append("</body></html>")
     return "\n".join(parts)
+
+
+def escape(x: Any) -> str:
+    """Any value as HTML-escaped text."""
+    return html.escape(str(x))
+
+
+def cell_number(v: Any, digits: int = 4) -> str:
+    """A number for a table cell: ``digits`` significant digits, "–" for NaN, "∞" / "−∞"; other values escaped.
+
+    Examples
+    --------
+    >>> cell_number(3.14159), cell_number(float("nan")), cell_number("<b>")
+    ('3.142', '–', '&lt;b&gt;')
+    """
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return escape(v)
+    if not math.isfinite(f):
+        return "–" if math.isnan(f) else ("∞" if f > 0 else "−∞")
+    return f"{f:.{digits}g}"

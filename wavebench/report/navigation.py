@@ -32,7 +32,6 @@ References
 
 from __future__ import annotations
 
-import html
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -46,6 +45,7 @@ from ..core.errors import ParameterError
 from ..navigation.consistency import ensemble_averaged_nees, nees_bounds
 from ..trial.recorder import NEES_DOF, NIS_DOF
 from .charts import band_chart
+from .html import cell_number, escape
 from .svg import PALETTE, Series, line_chart
 
 __all__ = [
@@ -94,19 +94,6 @@ _TRACK_COLORS = (*PALETTE, "#2a9d8f", "#e76f51", "#264653", "#9c6644")
 _OUTAGE_LABEL = "scheduled GNSS outage"
 
 
-def _esc(x: Any) -> str:
-    return html.escape(str(x))
-
-
-def _num(v: Any, digits: int = 4) -> str:
-    """A number for a table cell ("–" for missing)."""
-    try:
-        f = float(v)
-    except (TypeError, ValueError):
-        return _esc(v)
-    if not math.isfinite(f):
-        return "–" if math.isnan(f) else ("∞" if f > 0 else "−∞")
-    return f"{f:.{digits}g}"
 
 
 def _cell(v: Any, digits: int = 4) -> str:
@@ -114,23 +101,23 @@ def _cell(v: Any, digits: int = 4) -> str:
     try:
         f = float(v)
     except (TypeError, ValueError):
-        return f"<td class='num'>{_esc(v)}</td>"
-    return f"<td class='num' data-value=\"{f!r}\">{_num(f, digits)}</td>"
+        return f"<td class='num'>{escape(v)}</td>"
+    return f"<td class='num' data-value=\"{f!r}\">{cell_number(f, digits)}</td>"
 
 
 def _pair(lo: float, hi: float) -> str:
     """A table cell holding a region ``lo – hi``, each bound's exact value in ``data-value``."""
     return (
-        f"<td class='num'><span data-value=\"{float(lo)!r}\">{_num(lo)}</span> – "
-        f'<span data-value="{float(hi)!r}">{_num(hi)}</span></td>'
+        f"<td class='num'><span data-value=\"{float(lo)!r}\">{cell_number(lo)}</span> – "
+        f'<span data-value="{float(hi)!r}">{cell_number(hi)}</span></td>'
     )
 
 
 def _verdict(verdict: str) -> str:
     """The consistency verdict as a coloured word, with what it means."""
     word, _, meaning = _VERDICT_TEXT.get(verdict, verdict).partition(" (")
-    text = f'<span class="verdict {_VERDICT_CLASS.get(verdict, "v-other")}">{_esc(word)}</span>'
-    return text + (f" <span class='note'>{_esc(meaning.rstrip(')'))}</span>" if meaning else "")
+    text = f'<span class="verdict {_VERDICT_CLASS.get(verdict, "v-other")}">{escape(word)}</span>'
+    return text + (f" <span class='note'>{escape(meaning.rstrip(')'))}</span>" if meaning else "")
 
 
 def _figure(svg: str, caption: str) -> str:
@@ -462,13 +449,14 @@ def _error_section(ds: Any, metrics: pd.DataFrame, windows: list[tuple[str, floa
     if alive.size and int(alive[-1]) < n:
         cap += f" At the end {int(alive[-1])} of {n} trials still have a value."
     cap += _windows_note(windows, spec)
-    parts = [head, '<div class="figs">' + _figure(svg, _esc(cap)) + "</div>"]
+    parts = [head, '<div class="figs">' + _figure(svg, escape(cap)) + "</div>"]
     if windows:
         rows = []
         for r in outage_end_errors(t, err, windows):
             rows.append(
-                f"<tr class='outage-row'><td>{_esc(r.sensor)}</td><td class='num'>{_num(r.start_s)}–{_num(r.end_s)}"
-                f"</td><td class='num'>{_num(r.sample_end_s)}</td><td class='num'>{r.n_trials}</td>"
+                f"<tr class='outage-row'><td>{escape(r.sensor)}</td>"
+                f"<td class='num'>{cell_number(r.start_s)}–{cell_number(r.end_s)}"
+                f"</td><td class='num'>{cell_number(r.sample_end_s)}</td><td class='num'>{r.n_trials}</td>"
                 + _cell(r.median_m)
                 + _cell(r.p95_m)
                 + _cell(r.growth_median_mps)
@@ -493,8 +481,8 @@ def _error_section(ds: Any, metrics: pd.DataFrame, windows: list[tuple[str, floa
             continue
         med, p95v = _nanpct(finite, [50.0, 95.0])
         summary.append(
-            f"<tr class='nav-metric-row'><td><code>{_esc(col)}</code></td><td>{_esc(meaning)}</td>"
-            f"<td class='num'>{finite.size}</td>" + _cell(med) + _cell(p95v) + f"<td>{_esc(unit)}</td></tr>"
+            f"<tr class='nav-metric-row'><td><code>{escape(col)}</code></td><td>{escape(meaning)}</td>"
+            f"<td class='num'>{finite.size}</td>" + _cell(med) + _cell(p95v) + f"<td>{escape(unit)}</td></tr>"
         )
     if summary:
         parts.append(
@@ -526,11 +514,11 @@ def _consistency_figure(t: FloatArray, c: Consistency, name: str) -> str:
         f"against the two-sided {100 * CONFIDENCE:g} % chi-square region for N runs of a {c.dof}-dof "
         f"{name.upper()}: chi2.ppf(0.025, {c.dof}N)/N to chi2.ppf(0.975, {c.dof}N)/N (Bar-Shalom, Li and "
         f"Kirubarajan 2001, ch. 5.4); the region follows N as trials end. Inside "
-        f"{_num(100 * c.fraction_inside, 3)} % of the time."
+        f"{cell_number(100 * c.fraction_inside, 3)} % of the time."
     )
     if name == "nis":
         cap += " NIS of the latest GNSS fix, so repeated between fixes."
-    return _figure(svg, _esc(cap))
+    return _figure(svg, escape(cap))
 
 
 def _consistency_section(ds: Any) -> str:
@@ -571,7 +559,7 @@ def _consistency_section(ds: Any) -> str:
     )
     return (
         '<section id="nav-consistency"><h2>Filter consistency</h2><div class="figs">' + "".join(figs) + "</div>"
-        + table + f"<p class='note'>{_esc(note)}</p></section>"
+        + table + f"<p class='note'>{escape(note)}</p></section>"
     )  # fmt: skip
 
 
@@ -605,7 +593,7 @@ def _nav_tracks_section(ds: Any) -> str:
         f"of trials {shown} ({rows.size} of {len(trials)})."
     )
     return (
-        '<section id="nav-tracks"><h2>Navigation solution</h2><div class="figs">' + _figure(svg, _esc(cap))
+        '<section id="nav-tracks"><h2>Navigation solution</h2><div class="figs">' + _figure(svg, escape(cap))
         + "</div></section>"
     )  # fmt: skip
 
@@ -636,7 +624,7 @@ def _availability_section(ds: Any, windows: list[tuple[str, float, float]], spec
         + _windows_note(windows, spec)
     )
     return (
-        '<section id="nav-availability"><h2>GNSS availability</h2><div class="figs">' + _figure(svg, _esc(cap))
+        '<section id="nav-availability"><h2>GNSS availability</h2><div class="figs">' + _figure(svg, escape(cap))
         + "</div></section>"
     )  # fmt: skip
 

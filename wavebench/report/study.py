@@ -32,7 +32,6 @@ References
 
 from __future__ import annotations
 
-import html
 import json
 import math
 from collections.abc import Sequence
@@ -44,6 +43,7 @@ import pandas as pd
 
 from ..analysis.sensitivity import PARAM_PREFIX, rank_sensitivity, requirement_sensitivity
 from .charts import share_matrix_chart, signed_bar_chart
+from .html import cell_number, escape
 
 __all__ = [
     "DIRECTION_COLUMN",
@@ -85,26 +85,14 @@ td.reason { min-width: 12rem; }
 """
 
 
-def _esc(x: Any) -> str:
-    return html.escape(str(x))
-
-
-def _num(v: Any, digits: int = 4) -> str:
-    try:
-        f = float(v)
-    except (TypeError, ValueError):
-        return _esc(v)
-    if not math.isfinite(f):
-        return "–" if math.isnan(f) else ("∞" if f > 0 else "−∞")
-    return f"{f:.{digits}g}"
 
 
 def _cell(v: Any, digits: int = 4, cls: str = "num") -> str:
     try:
         f = float(v)
     except (TypeError, ValueError):
-        return f"<td class='{cls}'>{_esc(v)}</td>"
-    return f"<td class='{cls}' data-value=\"{f!r}\">{_num(f, digits)}</td>"
+        return f"<td class='{cls}'>{escape(v)}</td>"
+    return f"<td class='{cls}' data-value=\"{f!r}\">{cell_number(f, digits)}</td>"
 
 
 @dataclass(frozen=True)
@@ -133,7 +121,7 @@ class Requirement:
 
     def text(self) -> str:
         """E.g. ``"xte_p95_m < 5 m"``."""
-        return f"{self.metric} {_SYMBOL[self.comparator]} {_num(self.threshold)} {self.unit}".strip()
+        return f"{self.metric} {_SYMBOL[self.comparator]} {cell_number(self.threshold)} {self.unit}".strip()
 
 
 def requirements_of(spec: Any, verdicts: Sequence[dict[str, Any]] = ()) -> list[Requirement]:
@@ -211,7 +199,7 @@ def _rho_figure(table: pd.DataFrame, title: str, caption: str) -> str:
     muted = [not (math.isfinite(r) and p <= SIGNIFICANCE) for r, p in zip(table["rho"], table["p_value"], strict=True)]
     svg = signed_bar_chart([_short(p) for p in table["parameter"]], table["rho"].to_numpy(dtype=float), muted=muted,
                            title=title, xlabel="Spearman rank correlation rho")  # fmt: skip
-    return f"<figure>{svg}<figcaption>{_esc(caption)}</figcaption></figure>"
+    return f"<figure>{svg}<figcaption>{escape(caption)}</figcaption></figure>"
 
 
 def _drivers_section(metrics: pd.DataFrame, reqs: list[Requirement]) -> str:
@@ -229,7 +217,7 @@ def _drivers_section(metrics: pd.DataFrame, reqs: list[Requirement]) -> str:
     shown = 0
     for req in reqs:
         if req.metric not in metrics or metrics[req.metric].dtype.kind not in "biuf":
-            parts.append(f"<h3>{_esc(req.name)}</h3><p class='note'>The metric {_esc(req.metric)} is not a numeric "
+            parts.append(f"<h3>{escape(req.name)}</h3><p class='note'>The metric {escape(req.metric)} is not a numeric "
                          "column of metrics.parquet.</p>")  # fmt: skip
             continue
         by_metric = rank_sensitivity(metrics, metrics=[req.metric], parameters=params)
@@ -255,16 +243,16 @@ def _drivers_section(metrics: pd.DataFrame, reqs: list[Requirement]) -> str:
             q = req_rows[str(r.parameter)]
             faint = not (math.isfinite(r.rho) and r.p_value <= SIGNIFICANCE)
             rows.append(
-                f"<tr class='driver-row{' muted' if faint else ''}' data-parameter=\"{_esc(r.parameter)}\">"
-                f"<td><code>{_esc(_short(str(r.parameter)))}</code></td>" + _cell(r.rho, 3) + _cell(r.p_value, 2)
+                f"<tr class='driver-row{' muted' if faint else ''}' data-parameter=\"{escape(r.parameter)}\">"
+                f"<td><code>{escape(_short(str(r.parameter)))}</code></td>" + _cell(r.rho, 3) + _cell(r.p_value, 2)
                 + f"<td class='num'>{int(r.n)}</td>" + _cell(q.rho, 3) + _cell(q.p_value, 2)
                 + f"<td class='num'>{int(q.n)}</td></tr>"
             )  # fmt: skip
         parts.append(
-            f"<h3 data-requirement=\"{_esc(req.name)}\">{_esc(req.name)}: {_esc(req.text())}</h3>"
+            f"<h3 data-requirement=\"{escape(req.name)}\">{escape(req.name)}: {escape(req.text())}</h3>"
             '<div class="figs">' + "".join(figs) + "</div>"
-            f"<table class='drivers' data-requirement=\"{_esc(req.name)}\"><tr><th>input</th>"
-            f"<th class='num'>rho with {_esc(req.metric)}</th><th class='num'>p</th><th class='num'>n</th>"
+            f"<table class='drivers' data-requirement=\"{escape(req.name)}\"><tr><th>input</th>"
+            f"<th class='num'>rho with {escape(req.metric)}</th><th class='num'>p</th><th class='num'>n</th>"
             "<th class='num'>rho with meeting it</th><th class='num'>p</th><th class='num'>n</th></tr>"
             + "".join(rows) + "</table>"
         )  # fmt: skip
@@ -385,12 +373,13 @@ def _operability_section(metrics: pd.DataFrame, reqs: list[Requirement]) -> str:
                                  title=f"{req.name}: share meeting {req.text()}",
                                  xlabel="drawn mean wave direction [deg] (sea.spreading.mean_dir_deg)",
                                  ylabel="drawn Hs [m] (sea.hs_m)")  # fmt: skip
-        need = f" The requirement asks for {_num(req.probability, 3)}." if math.isfinite(req.probability) else ""
+        need = f" The requirement asks for {cell_number(req.probability, 3)}." if math.isfinite(req.probability) else ""
         cap = (
             f"Share of the trials in each cell that met {req.text()} (a trial without a value counts as not met), "
             f"and the number of trials in the cell; hatched: fewer than {MIN_CELL_TRIALS} trials.{need}"
         )
-        figs.append(f'<figure data-requirement="{_esc(req.name)}">{svg}<figcaption>{_esc(cap)}</figcaption></figure>')
+        figs.append(f'<figure data-requirement="{escape(req.name)}">{svg}'
+                    f"<figcaption>{escape(cap)}</figcaption></figure>")
     if not figs:
         return ""
     note = (
@@ -403,7 +392,7 @@ def _operability_section(metrics: pd.DataFrame, reqs: list[Requirement]) -> str:
         note += f" {left_out} trial{'s' if left_out != 1 else ''} without a drawn direction or Hs left out."
     return (
         '<section id="operability"><h2>Operability</h2><div class="figs">' + "".join(figs) + "</div>"
-        f"<p class='note'>{_esc(note)}</p></section>"
+        f"<p class='note'>{escape(note)}</p></section>"
     )
 
 
@@ -493,9 +482,9 @@ def _closest_section(metrics: pd.DataFrame, reqs: list[Requirement]) -> str:
     ]
     for req in reqs:
         rows = closest_trials(metrics, req)
-        head = ("<tr><th class='num'>trial</th><th class='num'>" + _esc(req.metric) + "</th><th class='num'>margin"
+        head = ("<tr><th class='num'>trial</th><th class='num'>" + escape(req.metric) + "</th><th class='num'>margin"
                 "</th><th>ended</th><th>failure reason</th>"
-                + "".join(f"<th class='num'>{_esc(_short(p))}</th>" for p in params) + "</tr>")  # fmt: skip
+                + "".join(f"<th class='num'>{escape(_short(p))}</th>" for p in params) + "</tr>")  # fmt: skip
         body = []
         for _, r in rows.iterrows():
             reason = r.get("failure_reason", "")
@@ -503,18 +492,18 @@ def _closest_section(metrics: pd.DataFrame, reqs: list[Requirement]) -> str:
             body.append(
                 f"<tr class='closest-row' data-trial='{int(r['trial'])}'><td class='num'>{int(r['trial'])}</td>"
                 + _cell(r[req.metric]) + _cell(r["margin"])
-                + f"<td>{_esc(r.get('ended', ''))}</td><td class='reason'>{_esc(reason)}</td>"
+                + f"<td>{escape(r.get('ended', ''))}</td><td class='reason'>{escape(reason)}</td>"
                 + "".join(_cell(r[p]) for p in params) + "</tr>"
             )  # fmt: skip
         first = int(rows["trial"].iloc[0])
         parts.append(
-            f"<h3>{_esc(req.name)}: {_esc(req.text())}</h3>"
-            f"<div class='scroll'><table class='closest' data-requirement=\"{_esc(req.name)}\">{head}{''.join(body)}"
+            f"<h3>{escape(req.name)}: {escape(req.text())}</h3>"
+            f"<div class='scroll'><table class='closest' data-requirement=\"{escape(req.name)}\">{head}{''.join(body)}"
             "</table></div>"
             f"<p class='note'>Replay trial {first} alone (Python, in the store folder; it prints its "
-            f"{_esc(req.metric)}, equal to the row above):</p>"
-            f"<pre class='replay' data-trial='{first}' data-metric=\"{_esc(req.metric)}\">"
-            f"{_esc(replay_code(first, req.metric))}</pre>"
+            f"{escape(req.metric)}, equal to the row above):</p>"
+            f"<pre class='replay' data-trial='{first}' data-metric=\"{escape(req.metric)}\">"
+            f"{escape(replay_code(first, req.metric))}</pre>"
         )
     parts.append(
         "<p class='note'>The replay runs the spec's own blocks; a campaign run with a user guide or pilot "

@@ -368,6 +368,54 @@ def _check_input(name: str, value: ArrayLike, n_trials: int) -> NDArray[np.float
     return arr
 
 
+def _measure(streams: TrialStreams, grade: ImuGrade, rate: NDArray[np.float64], force: NDArray[np.float64], dt: float,
+             purpose: str) -> ImuMeasurement:  # fmt: skip
+    """Both triads of :func:`imu_measure` (inputs checked by the callers; SI at the boundary)."""
+    n_trials = streams.n_trials
+    for f in dataclasses.fields(grade):
+        value = np.asarray(getattr(grade, f.name))
+        if value.ndim > 1 or (value.ndim == 1 and value.shape[0] != n_trials):
+            raise ParameterError(
+                f.name, getattr(grade, f.name), f"must be a scalar or an array of shape (n_trials,) = ({n_trials},)"
+            )
+
+    def arr(value: Any, factor: float) -> Any:
+        return np.asarray(value, dtype=float) * factor
+
+    gyro, gyro_bias, gyro_sf = _triad(
+        streams,
+        f"{purpose}.gyro",
+        rate,
+        dt,
+        white_density=arr(grade.gyro_arw_deg_per_sqrt_h, _DEG_PER_SQRT_H),
+        bias_gm_sigma=arr(grade.gyro_bias_instability_deg_per_h, DEG_PER_H * GM_SIGMA_PER_BIAS_INSTABILITY),
+        bias_tc_s=grade.gyro_bias_corr_time_s,
+        bias_rw_density=arr(grade.gyro_rrw_deg_per_h_per_sqrt_h, DEG_PER_H / 60.0),
+        turn_on_sd=arr(grade.gyro_turn_on_bias_sd_deg_per_h, DEG_PER_H),
+        scale_sd=arr(grade.gyro_scale_factor_sd_ppm, 1e-6),
+    )
+    accel, accel_bias, accel_sf = _triad(
+        streams,
+        f"{purpose}.accel",
+        force,
+        dt,
+        white_density=arr(grade.accel_vrw_mps_per_sqrt_h, _MPS_PER_SQRT_H),
+        bias_gm_sigma=arr(grade.accel_bias_instability_mps2, GM_SIGMA_PER_BIAS_INSTABILITY),
+        bias_tc_s=grade.accel_bias_corr_time_s,
+        bias_rw_density=arr(grade.accel_bias_rw_mps2_per_sqrt_h, 1.0 / 60.0),
+        turn_on_sd=arr(grade.accel_turn_on_bias_sd_mps2, 1.0),
+        scale_sd=arr(grade.accel_scale_factor_sd_ppm, 1e-6),
+    )
+    return ImuMeasurement(
+        gyro_rad_s=gyro,
+        accel_mps2=accel,
+        gyro_bias_rad_s=gyro_bias,
+        accel_bias_mps2=accel_bias,
+        gyro_scale_factor=gyro_sf,
+        accel_scale_factor=accel_sf,
+    )
+
+
 def imu_measure(
     streams: TrialStreams,
     grade: ImuGrade,
@@ -433,48 +481,7 @@ def imu_measure(
             f"must have the shape of true_rate_rad_s {rate.shape}",
         )
 
-    for f in dataclasses.fields(grade):
-        value = np.asarray(getattr(grade, f.name))
-        if value.ndim > 1 or (value.ndim == 1 and value.shape[0] != n_trials):
-            raise ParameterError(
-                f.name, getattr(grade, f.name), f"must be a scalar or an array of shape (n_trials,) = ({n_trials},)"
-            )
-
-    def arr(value: Any, factor: float) -> Any:
-        return np.asarray(value, dtype=float) * factor
-
-    gyro, gyro_bias, gyro_sf = _triad(
-        streams,
-        f"{purpose}.gyro",
-        rate,
-        dt,
-        white_density=arr(grade.gyro_arw_deg_per_sqrt_h, _DEG_PER_SQRT_H),
-        bias_gm_sigma=arr(grade.gyro_bias_instability_deg_per_h, DEG_PER_H * GM_SIGMA_PER_BIAS_INSTABILITY),
-        bias_tc_s=grade.gyro_bias_corr_time_s,
-        bias_rw_density=arr(grade.gyro_rrw_deg_per_h_per_sqrt_h, DEG_PER_H / 60.0),
-        turn_on_sd=arr(grade.gyro_turn_on_bias_sd_deg_per_h, DEG_PER_H),
-        scale_sd=arr(grade.gyro_scale_factor_sd_ppm, 1e-6),
-    )
-    accel, accel_bias, accel_sf = _triad(
-        streams,
-        f"{purpose}.accel",
-        force,
-        dt,
-        white_density=arr(grade.accel_vrw_mps_per_sqrt_h, _MPS_PER_SQRT_H),
-        bias_gm_sigma=arr(grade.accel_bias_instability_mps2, GM_SIGMA_PER_BIAS_INSTABILITY),
-        bias_tc_s=grade.accel_bias_corr_time_s,
-        bias_rw_density=arr(grade.accel_bias_rw_mps2_per_sqrt_h, 1.0 / 60.0),
-        turn_on_sd=arr(grade.accel_turn_on_bias_sd_mps2, 1.0),
-        scale_sd=arr(grade.accel_scale_factor_sd_ppm, 1e-6),
-    )
-    return ImuMeasurement(
-        gyro_rad_s=gyro,
-        accel_mps2=accel,
-        gyro_bias_rad_s=gyro_bias,
-        accel_bias_mps2=accel_bias,
-        gyro_scale_factor=gyro_sf,
-        accel_scale_factor=accel_sf,
-    )
+    return _measure(streams, grade, rate, force, dt, purpose)
 
 
 def imu_errors(
@@ -519,29 +526,4 @@ def imu_errors(
     n = streams.n_trials
     zero_g = np.zeros((n, int(n_samples), gyro_axes))
     zero_a = np.zeros((n, int(n_samples), accel_axes))
-
-    def arr(value: Any, factor: float) -> Any:
-        return np.asarray(value, dtype=float) * factor
-
-    gyro, gyro_bias, gyro_sf = _triad(
-        streams, f"{purpose}.gyro", zero_g, dt,
-        white_density=arr(grade.gyro_arw_deg_per_sqrt_h, _DEG_PER_SQRT_H),
-        bias_gm_sigma=arr(grade.gyro_bias_instability_deg_per_h, DEG_PER_H * GM_SIGMA_PER_BIAS_INSTABILITY),
-        bias_tc_s=grade.gyro_bias_corr_time_s,
-        bias_rw_density=arr(grade.gyro_rrw_deg_per_h_per_sqrt_h, DEG_PER_H / 60.0),
-        turn_on_sd=arr(grade.gyro_turn_on_bias_sd_deg_per_h, DEG_PER_H),
-        scale_sd=arr(grade.gyro_scale_factor_sd_ppm, 1e-6),
-    )  # fmt: skip
-    accel, accel_bias, accel_sf = _triad(
-        streams, f"{purpose}.accel", zero_a, dt,
-        white_density=arr(grade.accel_vrw_mps_per_sqrt_h, _MPS_PER_SQRT_H),
-        bias_gm_sigma=arr(grade.accel_bias_instability_mps2, GM_SIGMA_PER_BIAS_INSTABILITY),
-        bias_tc_s=grade.accel_bias_corr_time_s,
-        bias_rw_density=arr(grade.accel_bias_rw_mps2_per_sqrt_h, 1.0 / 60.0),
-        turn_on_sd=arr(grade.accel_turn_on_bias_sd_mps2, 1.0),
-        scale_sd=arr(grade.accel_scale_factor_sd_ppm, 1e-6),
-    )  # fmt: skip
-    return ImuMeasurement(
-        gyro_rad_s=gyro, accel_mps2=accel, gyro_bias_rad_s=gyro_bias, accel_bias_mps2=accel_bias,
-        gyro_scale_factor=gyro_sf, accel_scale_factor=accel_sf,
-    )  # fmt: skip
+    return _measure(streams, grade, zero_g, zero_a, dt, purpose)
