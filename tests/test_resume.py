@@ -116,3 +116,26 @@ def test_a_stored_campaign_reads_its_time_series_from_disk(tmp_path, spec, unint
     result = run_campaign(spec, progress=False, store=tmp_path / "store")
     assert result.timeseries.encoding["source"].endswith("timeseries.nc")
     assert result.timeseries.equals(uninterrupted.timeseries)
+
+
+def test_a_chunk_that_fails_whole_is_kept_as_failed_trials(tmp_path, spec, monkeypatch) -> None:
+    import numpy as np
+
+    from wavebench.campaign import executor
+
+    real = executor.run_batch
+
+    def broken_for_trial_2(spec_, setup, **kw):
+        if 2 in np.asarray(setup.env.trials.trials):
+            raise RuntimeError("solver blew up")
+        return real(spec_, setup, **kw)
+
+    monkeypatch.setattr(executor, "run_batch", broken_for_trial_2)
+    with pytest.warns(WavebenchWarning, match="solver blew up"):
+        held = run_campaign(spec, trials=6, progress=False)
+    with pytest.warns(WavebenchWarning, match="solver blew up"):
+        stored = run_campaign(spec, trials=6, progress=False, store=tmp_path / "store")
+    pd.testing.assert_frame_equal(stored.metrics, held.metrics, check_exact=True)
+    assert stored.timeseries.equals(held.timeseries)
+    assert list(stored.timeseries["trial"].values) == [0, 1, 4, 5]
+    assert (stored.metrics["failure_reason"].iloc[2:4] == "error: RuntimeError: solver blew up").all()

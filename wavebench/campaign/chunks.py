@@ -131,7 +131,8 @@ def finished_chunks(folder: Path, record: bool) -> dict[str, tuple[Any, Any]]:
         try:
             frame = pd.read_parquet(path)
             ts = None
-            if record:  # readable and whole; the values stay on disk until consolidation
+            whole_chunk_failed = bool(frame["failure_reason"].astype(str).str.startswith("error:").all())
+            if record and not whole_chunk_failed:  # readable and whole; the values stay on disk until consolidation
                 with xr.open_dataset(folder / f"ts-{name}.nc", engine="h5netcdf") as ds:
                     ts = int(ds.sizes["trial"])
                 if ts != len(frame):
@@ -157,7 +158,8 @@ def consolidate_timeseries(folder: Path, names: list[str], out_path: Path, attrs
     folder : Path
         The chunk folder.
     names : list of str
-        Chunk names in trial order (:func:`chunk_name`).
+        Chunk names in trial order (:func:`chunk_name`); a chunk that failed
+        as a whole has no time series and is left out, as in memory.
     out_path : Path
         The store's ``timeseries.nc`` (written to a temporary name, then renamed into place).
     attrs : dict
@@ -168,6 +170,9 @@ def consolidate_timeseries(folder: Path, names: list[str], out_path: Path, attrs
 
     from ..trial.recorder import SIGNALS
 
+    names = [name for name in names if (folder / f"ts-{name}.nc").exists()]  # a chunk that failed whole has none
+    if not names:
+        return
     sizes = []
     for name in names:
         with xr.open_dataset(folder / f"ts-{name}.nc", engine="h5netcdf") as ds:

@@ -383,8 +383,11 @@ def run_campaign(
         from .chunks import chunk_name, consolidate_timeseries
 
         names = sorted(chunk_name(f["trial"].to_numpy()) for f in frames)
-        consolidate_timeseries(folder, names, Path(store) / "timeseries.nc", ts_attrs)
-        timeseries = xr.open_dataset(Path(store) / "timeseries.nc", engine="h5netcdf")  # read lazily
+        nc = Path(store) / "timeseries.nc"
+        nc.unlink(missing_ok=True)
+        consolidate_timeseries(folder, names, nc, ts_attrs)
+        if nc.exists():
+            timeseries = xr.open_dataset(nc, engine="h5netcdf")  # read lazily
     elif record and records:
         timeseries = xr.concat(records, dim="trial")
         timeseries.attrs.update(ts_attrs)
