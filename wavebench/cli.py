@@ -108,6 +108,40 @@ def _run(args: argparse.Namespace) -> int:
     return 0 if result.complete else 130
 
 
+def _export(args: argparse.Namespace) -> int:
+    from .campaign import export_netcdf
+
+    print(f"written {export_netcdf(Path(args.store), Path(args.file))}")
+    return 0
+
+
+def _replay(args: argparse.Namespace) -> int:
+    import numpy as np
+
+    from .campaign import read_store
+    from .campaign.executor import run_chunk
+    from .trial.setup import pilot_for
+
+    store = read_store(Path(args.store))
+    spec, metrics = store["spec"], store["metrics"]
+    rows = metrics.index[metrics["trial"] == args.trial]
+    if len(rows) == 0:
+        raise ParameterError("trial", args.trial, f"must be a trial of the store (0 to {int(metrics['trial'].max())})")
+    out = run_chunk(spec, np.array([args.trial]), pilot=pilot_for(spec, spec.craft.build()), record=False)
+    row = metrics.loc[rows[0]]
+    same = True
+    for name, values in out.columns.items():
+        if name not in row.index:
+            continue
+        a, b = values[0], row[name]
+        equal = (str(a) == str(b)) if isinstance(b, str) else (bool(np.isnan(a) and np.isnan(b)) or a == b)
+        same &= bool(equal)
+        if args.verbose or not equal:
+            print(f"{name:<28} replayed {a!s:<24} stored {b!s:<24}{'' if equal else '  DIFFERS'}")
+    print(f"trial {args.trial} replayed alone: {'the same bits as the store' if same else 'DIFFERS from the store'}")
+    return 0 if same else 1
+
+
 def _report(args: argparse.Namespace) -> int:
     from .report.campaign import write_campaign_report
 
@@ -202,6 +236,17 @@ def build_parser() -> argparse.ArgumentParser:
                      help="change a spec field before the run, e.g. --set stack.navigator=dead_reckoning "
                           "(repeatable; VALUE is a TOML value or a bare word)")  # fmt: skip
     run.set_defaults(func=_run)
+
+    exp = sub.add_parser("export", help="write a store as one NetCDF file for sharing")
+    exp.add_argument("store", metavar="DIR", help="store folder written by 'wavebench run'")
+    exp.add_argument("file", metavar="FILE.nc", help="the NetCDF file to write")
+    exp.set_defaults(func=_export)
+
+    rpl = sub.add_parser("replay", help="run one trial of a store alone and check it gives the stored bits")
+    rpl.add_argument("store", metavar="DIR", help="store folder written by 'wavebench run'")
+    rpl.add_argument("trial", type=int, help="trial number")
+    rpl.add_argument("--verbose", action="store_true", help="print every metric, not only those that differ")
+    rpl.set_defaults(func=_replay)
 
     rep = sub.add_parser("report", help="write the HTML report of a store folder",
                          description="Write a self-contained HTML report of a campaign store.")  # fmt: skip

@@ -38,7 +38,7 @@ from ..core.errors import ParameterError
 from ..spec.io import dump_spec, load_spec, spec_hash
 from .executor import CampaignResult
 
-__all__ = ["STORE_FORMAT", "STORE_FORMAT_VERSION", "package_versions", "read_store", "write_store"]
+__all__ = ["STORE_FORMAT", "STORE_FORMAT_VERSION", "export_netcdf", "package_versions", "read_store", "write_store"]
 
 STORE_FORMAT = "wavebench-store"
 STORE_FORMAT_VERSION = 1
@@ -147,3 +147,43 @@ def read_store(store_dir: str | os.PathLike[str]) -> dict[str, Any]:
         "timeseries": ts,
         "verdicts": verdicts,
     }
+
+
+def export_netcdf(store_dir: str | os.PathLike[str], out_path: str | os.PathLike[str]) -> Path:
+    """One NetCDF file holding a whole store, for sharing: time series, per-trial metrics, spec and verdicts.
+
+    The metrics and drawn parameters become variables along ``trial`` (a
+    trial without a recorded time series keeps its metrics); the spec
+    (TOML), the verdicts and the manifest (JSON) are global attributes
+    ``wavebench_spec``, ``wavebench_verdicts`` and ``wavebench_manifest``.
+
+    Parameters
+    ----------
+    store_dir : path-like
+        A store folder written by ``wavebench run``.
+    out_path : path-like
+        The file to write (``.nc``).
+
+    Returns
+    -------
+    Path
+    """
+    import xarray as xr
+
+    store = read_store(store_dir)
+    metrics = store["metrics"].set_index("trial")
+    table = xr.Dataset.from_dataframe(metrics)
+    for name in table.data_vars:
+        if table[name].dtype == object:
+            table[name] = table[name].astype(str)
+    ds = table if store["timeseries"] is None else xr.merge([store["timeseries"], table], join="outer",
+                                                               combine_attrs="override")  # fmt: skip
+    d = Path(store_dir)
+    ds.attrs.update(
+        wavebench_spec=(d / "spec.toml").read_text(encoding="utf-8"),
+        wavebench_verdicts=(d / "verdicts.json").read_text(encoding="utf-8"),
+        wavebench_manifest=(d / "manifest.json").read_text(encoding="utf-8"),
+    )
+    out = Path(out_path)
+    ds.to_netcdf(out, engine="h5netcdf")
+    return out
