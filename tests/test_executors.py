@@ -80,3 +80,45 @@ def test_the_spec_can_name_its_executor(spec, inline) -> None:
                                                                   "campaign.executor=processes"])  # fmt: skip
     assert on_processes.campaign.executor == "processes"
     _same(inline, run_campaign(on_processes, trials=5, progress=False, workers=2))
+
+
+def _dies_once(marker, fn, idx):
+    """Run a chunk, but kill the worker process (hard) the first time it is given the chunk of trials 2-3."""
+    import os
+    from pathlib import Path
+
+    if int(idx[0]) == 2 and not Path(marker).exists():
+        Path(marker).write_text("died", encoding="utf-8")
+        os._exit(1)  # the worker process dies mid-chunk, as if killed
+    return fn(idx)
+
+
+class _DaskWithDyingWorker:
+    """An executor object: a Dask client whose map lets one worker die on its first try of one chunk."""
+
+    def __init__(self, client, marker):
+        self.client, self.marker = client, marker
+
+    def map(self, fn, items):
+        import functools
+
+        futures = self.client.map(functools.partial(_dies_once, str(self.marker), fn), list(items), pure=False)
+        for fut in futures:
+            yield fut.result()
+
+
+def test_a_dask_worker_killed_mid_chunk_is_replaced_and_nothing_changes(spec, inline, tmp_path) -> None:
+    import sys
+
+    import cloudpickle
+
+    distributed = pytest.importorskip("distributed", reason="the test extra installs dask.distributed")
+    cloudpickle.register_pickle_by_value(sys.modules[__name__])  # the workers cannot import this test module
+    try:
+        with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                      dashboard_address=None) as cl, distributed.Client(cl) as client:  # fmt: skip
+            got = run_campaign(spec, trials=5, progress=False, executor=_DaskWithDyingWorker(client, tmp_path / "m"))
+    finally:
+        cloudpickle.unregister_pickle_by_value(sys.modules[__name__])
+    assert (tmp_path / "m").exists()  # a worker did die once, mid-chunk
+    _same(inline, got)
