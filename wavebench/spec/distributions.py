@@ -14,6 +14,7 @@ TOML                                                                      meanin
 ``hs_m = { lognormal = { median = 1.5, sigma = 0.3 } }``                  ``median * exp(sigma * Z)``, Z ~ N(0, 1)
 ``hs_m = { choice = [1.0, 1.5, 2.0] }``                                   equally likely values
 ``hs_m = { choice = [1.0, 2.0], weights = [0.75, 0.25] }``                weighted values
+``hs_m = { grid = [0.5, 1.0, 2.0] }``                                     each level in turn (a grid axis)
 ========================================================================  =====================================
 
 The lognormal is given by its median and the standard deviation ``sigma``
@@ -46,6 +47,7 @@ __all__ = [
     "DISTRIBUTION_KINDS",
     "Choice",
     "Distribution",
+    "Grid",
     "LogNormal",
     "Normal",
     "TruncatedNormal",
@@ -378,10 +380,45 @@ class Choice:
         return values[order][np.minimum(k, values.size - 1)]
 
 
-Distribution = Uniform | Normal | TruncatedNormal | LogNormal | Choice
+@dataclass(frozen=True)
+class Grid:
+    """Levels of a grid axis: the campaign visits every combination of its grid fields' levels.
+
+    Not random: with grid fields ``A`` (levels a0, a1, ...) and ``B`` (b0,
+    b1, ...) in document order, trial ``i`` takes combination
+    ``i mod (n_A n_B ...)`` in mixed radix, the last grid field counting
+    fastest; the other distributed fields are drawn as usual for every
+    trial, so each combination is repeated with fresh random inputs
+    (a full-factorial design mixed with random axes, e.g. an operability
+    study over wave heading x Hs). A campaign of ``k`` times the number of
+    combinations visits each ``k`` times.
+
+    Parameters
+    ----------
+    levels : tuple of float
+        At least one value.
+    """
+
+    levels: tuple[float, ...]
+
+    def __post_init__(self) -> None:
+        if len(self.levels) == 0:
+            raise ParameterError("grid", [], "needs at least one level")
+
+    def support(self) -> tuple[float, float]:
+        """Smallest and largest level."""
+        return (min(self.levels), max(self.levels))
+
+    def sample(self, rng: np.random.Generator, size: int) -> np.ndarray:
+        """Not defined: a grid axis is enumerated by the campaign, not drawn."""
+        raise ParameterError("grid", list(self.levels), "is enumerated by the campaign (draw_trial_parameters), "
+                             "not sampled")  # fmt: skip
+
+
+Distribution = Uniform | Normal | TruncatedNormal | LogNormal | Choice | Grid
 
 #: Distribution kinds as named in a spec.
-DISTRIBUTION_KINDS: tuple[str, ...] = ("uniform", "normal", "truncated_normal", "lognormal", "choice")
+DISTRIBUTION_KINDS: tuple[str, ...] = ("uniform", "normal", "truncated_normal", "lognormal", "choice", "grid")
 
 _TABLE_KEYS = {
     "normal": ("mean", "sd"),
@@ -470,6 +507,8 @@ def parse_distribution(data: Mapping[str, Any], path: str) -> Distribution:
             if len(nums) != 2:
                 raise ParameterError(where, body, "must be [low, high]")
             return Uniform(nums[0], nums[1])
+        if kind == "grid":
+            return Grid(tuple(_numbers(where, body)))
         if kind == "choice":
             values = tuple(_numbers(where, body))
             weights = None
@@ -507,6 +546,8 @@ def distribution_to_data(dist: Distribution) -> dict[str, Any]:
     """
     if isinstance(dist, Uniform):
         return {"uniform": [dist.low, dist.high]}
+    if isinstance(dist, Grid):
+        return {"grid": list(dist.levels)}
     if isinstance(dist, Choice):
         out: dict[str, Any] = {"choice": list(dist.values)}
         if dist.weights is not None:

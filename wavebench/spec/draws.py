@@ -15,9 +15,10 @@ import numpy as np
 from ..core.errors import ParameterError
 from ..core.streams import TrialStreams
 from .designs import SPACE_FILLING_DESIGNS, unit_design
+from .distributions import Grid
 from .schema import Spec, distributed_fields
 
-__all__ = ["draw_from_design", "draw_monte_carlo", "draw_trial_parameters"]
+__all__ = ["draw_from_design", "draw_monte_carlo", "draw_trial_parameters", "grid_levels"]
 
 
 def draw_monte_carlo(fields: dict[str, Any], trials: TrialStreams) -> dict[str, np.ndarray]:
@@ -93,8 +94,11 @@ def draw_trial_parameters(
     each trial comes from the trial's own stream (:func:`draw_monte_carlo`).
     With ``"latin_hypercube"`` or ``"sobol"`` the campaign has one design of
     ``planned_trials`` points over all distributed fields and trial ``i``
-    takes point ``i`` (:func:`draw_from_design`). Either way trial ``i``
-    gets the same values alone or in any batch.
+    takes point ``i`` (:func:`draw_from_design`). Fields written as
+    ``{ grid = [...] }`` are not drawn: trial ``i`` takes combination
+    ``i mod n_combinations`` of their levels (:func:`grid_levels`), a
+    full-factorial design mixed with the random fields. Either way trial
+    ``i`` gets the same values alone or in any batch.
 
     Parameters
     ----------
@@ -127,11 +131,39 @@ def draw_trial_parameters(
     >>> draw_trial_parameters(lhs, TrialStreams(seed=1, trials=range(5)))["sea.hs_m"].shape
     (5,)
     """
-    fields = distributed_fields(spec)
+    every = distributed_fields(spec)
+    grid = {path: dist for path, dist in every.items() if isinstance(dist, Grid)}
+    fields = {path: dist for path, dist in every.items() if not isinstance(dist, Grid)}
     design = spec.campaign.design
     if design not in SPACE_FILLING_DESIGNS:
-        return draw_monte_carlo(fields, trials)
-    n = spec.campaign.trials if planned_trials is None else planned_trials
-    if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or n < 1:
-        raise ParameterError("planned_trials", n, "must be an integer >= 1")
-    return draw_from_design(fields, trials, design, int(n))
+        drawn = draw_monte_carlo(fields, trials)
+    else:
+        n = spec.campaign.trials if planned_trials is None else planned_trials
+        if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or n < 1:
+            raise ParameterError("planned_trials", n, "must be an integer >= 1")
+        drawn = draw_from_design(fields, trials, design, int(n))
+    levels = grid_levels(grid, np.asarray(trials.trials, dtype=np.int64))
+    return {path: levels[path] if path in levels else drawn[path] for path in every}
+
+
+def grid_levels(grid: dict[str, Grid], trial_index: np.ndarray) -> dict[str, np.ndarray]:
+    """Each grid field's level for the given trials: combination ``i mod n_combinations`` in mixed radix.
+
+    The grid fields count like the digits of a number in document order,
+    the last one fastest, so the first ``n_combinations`` trials visit every
+    combination once.
+
+    Examples
+    --------
+    >>> from wavebench.spec.distributions import Grid
+    >>> g = grid_levels({"a": Grid((1.0, 2.0)), "b": Grid((10.0, 20.0, 30.0))}, np.arange(7))
+    >>> g["a"].tolist(), g["b"].tolist()
+    ([1.0, 1.0, 1.0, 2.0, 2.0, 2.0, 1.0], [10.0, 20.0, 30.0, 10.0, 20.0, 30.0, 10.0])
+    """
+    out: dict[str, np.ndarray] = {}
+    stride = 1
+    for path, dist in reversed(list(grid.items())):
+        n = len(dist.levels)
+        out[path] = np.asarray(dist.levels, dtype=float)[(trial_index // stride) % n]
+        stride *= n
+    return {path: out[path] for path in grid}

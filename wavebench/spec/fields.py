@@ -39,6 +39,7 @@ from ..core.errors import ParameterError, WavebenchWarning
 from ..core.params import Bounds, Params, check_value
 from .distributions import (
     Choice,
+    Grid,
     LogNormal,
     Normal,
     TruncatedNormal,
@@ -63,7 +64,7 @@ __all__ = [
     "texts",
 ]
 
-DIST_TYPES = (Uniform, Normal, TruncatedNormal, LogNormal, Choice)
+DIST_TYPES = (Uniform, Normal, TruncatedNormal, LogNormal, Choice, Grid)
 _MISSING = dataclasses.MISSING
 _BARE_KEY = re.compile(r"[A-Za-z0-9_-]+")
 
@@ -248,6 +249,8 @@ def representative(value: Any) -> Any:
         return value.median
     if isinstance(value, Choice):
         return value.values[0]
+    if isinstance(value, Grid):
+        return value.levels[0]
     return value
 
 
