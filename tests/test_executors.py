@@ -122,3 +122,26 @@ def test_a_dask_worker_killed_mid_chunk_is_replaced_and_nothing_changes(spec, in
         cloudpickle.unregister_pickle_by_value(sys.modules[__name__])
     assert (tmp_path / "m").exists()  # a worker did die once, mid-chunk
     _same(inline, got)
+
+
+class DieOnceFactory:
+    """A pilot factory that kills its worker process the first time it builds the batch of trials 2-3."""
+
+    def __init__(self, marker: str) -> None:
+        self.marker = marker
+
+    def __call__(self, setup):
+        import os
+        from pathlib import Path
+
+        if 2 in list(setup.env.trials.trials) and not Path(self.marker).exists():
+            Path(self.marker).write_text("died", encoding="utf-8")
+            os._exit(1)  # the worker dies mid-chunk, as if killed
+        return None  # the spec's own pilot
+
+
+def test_a_local_worker_killed_mid_chunk_is_replaced_and_nothing_changes(spec, inline, tmp_path) -> None:
+    got = run_campaign(spec, trials=5, progress=False, executor="processes", workers=2,
+                       pilot_factory=DieOnceFactory(str(tmp_path / "m")))  # fmt: skip
+    assert (tmp_path / "m").exists()  # a worker did die once
+    _same(inline, got)

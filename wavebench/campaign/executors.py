@@ -9,7 +9,9 @@ when asked for (``pip install 'wavebench[dask]'``).
 
 Workers get the chunk function and its arguments by pickling: the spec, the
 pilot and any user block factories must be picklable (module-level
-functions or classes). Each worker process runs the compiled kernels on one
+functions or classes). A worker that dies mid-chunk costs only that chunk's
+time: Dask reschedules its task on another worker, and the local process
+pool is started again for the chunks not yet returned. Each worker process runs the compiled kernels on one
 thread, so that workers do not contend for the cores; a fresh worker
 compiles (or loads from numba's cache) the kernels once.
 """
@@ -61,17 +63,53 @@ def _worker_init() -> None:
     os.environ.setdefault("OMP_NUM_THREADS", "1")
 
 
-def _futures_map(pool: concurrent.futures.Executor) -> Callable[..., Iterator[Any]]:
-    def ordered(fn: Callable[[Any], Any], items: Iterable[Any]) -> Iterator[Any]:
-        futures = [pool.submit(fn, item) for item in items]
-        try:
-            for fut in futures:
-                yield fut.result()
-        finally:
-            for fut in futures:
-                fut.cancel()
+class _RestartingPool:
+    """Local worker processes whose pool is started again when a worker dies (killed, out of memory).
 
-    return ordered
+    A dead worker breaks a ``ProcessPoolExecutor`` and fails every pending
+    task; the chunks not yet returned are then submitted to a fresh pool,
+    at most :data:`MAX_POOL_RESTARTS` times per campaign, and each chunk
+    gives the same bits wherever it runs.
+    """
+
+    def __init__(self, workers: int) -> None:
+        self.workers = workers
+        self.restarts = 0
+        self.pool = self._start()
+
+    def _start(self) -> concurrent.futures.ProcessPoolExecutor:
+        ctx = multiprocessing.get_context("spawn")
+        return concurrent.futures.ProcessPoolExecutor(max_workers=self.workers, mp_context=ctx,
+                                                      initializer=_worker_init)  # fmt: skip
+
+    def map(self, fn: Callable[[Any], Any], items: Iterable[Any]) -> Iterator[Any]:
+        from concurrent.futures.process import BrokenProcessPool
+
+        todo = list(items)
+        start = 0
+        while start < len(todo):
+            futures = [self.pool.submit(fn, item) for item in todo[start:]]
+            try:
+                for fut in futures:
+                    result = fut.result()
+                    start += 1
+                    yield result
+            except BrokenProcessPool:
+                if self.restarts >= MAX_POOL_RESTARTS:
+                    raise
+                self.restarts += 1
+                self.pool.shutdown(wait=False, cancel_futures=True)
+                self.pool = self._start()
+            finally:
+                for fut in futures:
+                    fut.cancel()
+
+    def shutdown(self) -> None:
+        self.pool.shutdown(wait=True, cancel_futures=True)
+
+
+#: Times the local process pool may be started again in one campaign after a worker died.
+MAX_POOL_RESTARTS = 3
 
 
 def _dask_map(client: Any) -> Callable[..., Iterator[Any]]:
@@ -131,9 +169,11 @@ def open_executor(executor: str | Any = "inline", *, workers: int | None = None,
     if executor == "inline":
         yield ExecutorHandle(map=_inline_map, in_process=True, description="inline")
     elif executor == "processes":
-        ctx = multiprocessing.get_context("spawn")
-        with concurrent.futures.ProcessPoolExecutor(max_workers=n, mp_context=ctx, initializer=_worker_init) as pool:
-            yield ExecutorHandle(map=_futures_map(pool), in_process=False, description=f"processes x {n}")
+        pool = _RestartingPool(n)
+        try:
+            yield ExecutorHandle(map=pool.map, in_process=False, description=f"processes x {n}")
+        finally:
+            pool.shutdown()
     elif executor == "dask":
         try:
             from dask.distributed import Client, LocalCluster
