@@ -116,26 +116,18 @@ def _export(args: argparse.Namespace) -> int:
 
 
 def _replay(args: argparse.Namespace) -> int:
-    import numpy as np
-
     from .campaign import read_store
-    from .campaign.executor import run_chunk
-    from .trial.setup import pilot_for
+    from .campaign.replay import compare_with_store, replay_trial
 
     store = read_store(Path(args.store))
     spec, metrics = store["spec"], store["metrics"]
     rows = metrics.index[metrics["trial"] == args.trial]
     if len(rows) == 0:
         raise ParameterError("trial", args.trial, f"must be a trial of the store (0 to {int(metrics['trial'].max())})")
-    out = run_chunk(spec, np.array([args.trial]), pilot=pilot_for(spec, spec.craft.build()), record=False)
-    row = metrics.loc[rows[0]]
+    rep = replay_trial(spec, args.trial, record=False)
     same = True
-    for name, values in out.columns.items():
-        if name not in row.index:
-            continue
-        a, b = values[0], row[name]
-        equal = (str(a) == str(b)) if isinstance(b, str) else (bool(np.isnan(a) and np.isnan(b)) or a == b)
-        same &= bool(equal)
+    for name, a, b, equal in compare_with_store(rep, metrics.loc[rows[0]]):
+        same &= equal
         if args.verbose or not equal:
             print(f"{name:<28} replayed {a!s:<24} stored {b!s:<24}{'' if equal else '  DIFFERS'}")
     print(f"trial {args.trial} replayed alone: {'the same bits as the store' if same else 'DIFFERS from the store'}")
