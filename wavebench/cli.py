@@ -197,6 +197,12 @@ def _seakeeping(args: argparse.Namespace) -> int:
     return 0
 
 
+def _verify(args: argparse.Namespace) -> int:
+    from .notebook_verify import main as verify_main
+
+    return verify_main(args.notebook, timeout=args.timeout)
+
+
 def build_parser() -> argparse.ArgumentParser:
     """The argument parser of the ``wavebench`` command."""
     parser = argparse.ArgumentParser(
@@ -271,6 +277,12 @@ def build_parser() -> argparse.ArgumentParser:
     sk.add_argument("--html", metavar="PATH", help="also write a self-contained HTML report")
     sk.add_argument("--quiet", action="store_true", help="no progress bar")
     sk.set_defaults(func=_seakeeping)
+
+    ver = sub.add_parser("verify", help="re-run a saved notebook and check its results reproduce bit for bit",
+                         description="Re-execute a copy of a saved notebook; compare its results' hashes.")
+    ver.add_argument("notebook", nargs="+", metavar="NOTEBOOK", help="saved .ipynb file(s) with their outputs")
+    ver.add_argument("--timeout", type=float, default=600.0, help="longest run of one cell [s] (default 600)")
+    ver.set_defaults(func=_verify)
     return parser
 
 
