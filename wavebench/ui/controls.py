@@ -58,6 +58,8 @@ import traitlets
 from ..core.errors import ParameterError
 from ..core.params import Bounds, Params
 from ..report.html import escape
+from ..spec.distributions import parse_distribution
+from ..spec.fields import representative
 from ..spec.io import dump_spec, load_spec, save_spec
 from ..spec.schema import Spec, spec_from_data, spec_to_data
 from .twin import Twinned
@@ -225,6 +227,14 @@ def _set(data: dict[str, Any], path: Path, value: Any) -> None:
         node[path[-1]] = value
 
 
+def _representative_data(value: Mapping[str, Any], path: str) -> Any:
+    """The representative value of a distribution given as plain data (None if it does not parse)."""
+    try:
+        return representative(parse_distribution(value, path))
+    except ParameterError:
+        return None
+
+
 def _finite_range(bounds: Bounds) -> tuple[float, float] | None:
     lo = bounds.ge if bounds.ge is not None else bounds.gt
     hi = bounds.le if bounds.le is not None else bounds.lt
@@ -378,14 +388,12 @@ class FieldControl:
                     mode = "distribution"
                     assert self.dist_widget is not None
                     self.dist_widget.value = toml_literal(value)
+                    self._show_number(_representative_data(value, self.name))
                 elif value is None:
                     mode = "absent" if self.optional else "value"
                 else:
                     mode = "value"
-                    if isinstance(self.value_widget, widgets.Text):
-                        self.value_widget.value = toml_literal(value)
-                    else:
-                        self.value_widget.value = value
+                    self._show_number(value)
                 if self.mode_widget is not None and mode in self.mode_widget.options:
                     self.mode_widget.value = mode
                 self._layout_mode()
@@ -401,6 +409,14 @@ class FieldControl:
                 self.value_widget.value = "" if value is None else toml_literal(value)
         finally:
             self._updating = False
+
+    def _show_number(self, value: Any) -> None:
+        if value is None:
+            return
+        if isinstance(self.value_widget, widgets.Text):
+            self.value_widget.value = toml_literal(value)
+        else:
+            self.value_widget.value = value
 
     def _layout_mode(self) -> None:
         mode = self.mode
