@@ -276,7 +276,7 @@ def test_store_without_timeseries_and_verdicts(tmp_path: Path) -> None:
     _assert_offline(p, page)
     assert "no substitute for sea trials" in page
     assert "No requirements in the spec" in page and "verdict-row" not in page
-    assert "timeseries.nc is not in the store" in page
+    assert "The store holds no time series" in page
     titles = [_title(s) for s in _svgs(page[: page.index('<section id="parameters">')])]
     assert titles == ["xte_p95_m", "xte_max_m", "heading_err_rms_deg", "energy_kj", "time_to_complete_s"]
     # an empty verdicts.json says the same

@@ -27,6 +27,7 @@ from scipy import stats
 
 from wavebench.campaign import run_campaign
 from wavebench.campaign.executor import CampaignResult
+from wavebench.campaign.series import open_timeseries
 from wavebench.campaign.store import write_store
 from wavebench.report.campaign import campaign_report_html
 from wavebench.report.navigation import consistency_over_time, gnss_outages
@@ -146,7 +147,7 @@ def nav_page(nav_store: Path) -> str:
 
 
 def _read(store: Path, name: str) -> tuple[np.ndarray, np.ndarray]:
-    with xr.open_dataset(store / "timeseries.nc", engine="h5netcdf") as ds:
+    with open_timeseries(store) as ds:
         return ds["time"].values.astype(float), ds[name].transpose("trial", "time").values.astype(float)
 
 

@@ -112,9 +112,10 @@ def test_resume_refuses_a_differently_planned_store(tmp_path, spec, monkeypatch)
 
 
 def test_a_stored_campaign_reads_its_time_series_from_disk(tmp_path, spec, uninterrupted) -> None:
-    # with a store, chunks' time series are consolidated from disk and the result reads the file lazily
+    # with a store, chunks' time series go to timeseries.zarr as they finish and the result reads it lazily
     result = run_campaign(spec, progress=False, store=tmp_path / "store")
-    assert result.timeseries.encoding["source"].endswith("timeseries.nc")
+    assert (tmp_path / "store" / "timeseries.zarr").is_dir()
+    assert not any(v._in_memory for v in result.timeseries.data_vars.values())
     assert result.timeseries.equals(uninterrupted.timeseries)
 
 
@@ -137,5 +138,78 @@ def test_a_chunk_that_fails_whole_is_kept_as_failed_trials(tmp_path, spec, monke
         stored = run_campaign(spec, trials=6, progress=False, store=tmp_path / "store")
     pd.testing.assert_frame_equal(stored.metrics, held.metrics, check_exact=True)
     assert stored.timeseries.equals(held.timeseries)
-    assert list(stored.timeseries["trial"].values) == [0, 1, 4, 5]
+    # the time series keep a row per trial, NaN for the trials of the chunk that failed
+    assert list(stored.timeseries["trial"].values) == [0, 1, 2, 3, 4, 5]
+    xte = stored.timeseries["xte_m"].values
+    assert np.isnan(xte[2:4]).all() and np.isfinite(xte[[0, 1, 4, 5], 0]).all()
     assert (stored.metrics["failure_reason"].iloc[2:4] == "error: RuntimeError: solver blew up").all()
+
+
+def test_a_sequential_campaign_resumes_and_stops_where_it_would_have(tmp_path, monkeypatch) -> None:
+    import numpy as np
+
+    from wavebench.analysis.sequential import SequentialPlan
+
+    spec = load_spec(example_spec_path("skerrow_sound"), [
+        "scenario.duration_s=30.0", "campaign.batch_size=10", "requirements.track_keeping=",
+        "requirements.finishes_in_time=", "requirements.easy.metric=xte_max_m", "requirements.easy.below=1000.0",
+        "requirements.easy.probability=0.8"])  # fmt: skip
+    plan = SequentialPlan(confidence=0.95, max_trials=60, first_look=10, look_every=10)
+    # Clopper & Pearson (1934): with all n trials met, the lower bound at confidence 1 - a is (a/2)^(1/n); the
+    # union-bound schedule spends a_k = 6 (0.05) / (pi^2 k^2) at look k. Look 2 (n = 20): 0.73 < 0.8; look 3
+    # (n = 30): 0.81 > 0.8 -> "pass" after 30 trials, before the cap of 60.
+    a = [6 * 0.05 / (np.pi**2 * k**2) for k in (2, 3)]
+    assert (a[0] / 2) ** (1 / 20) < 0.8 < (a[1] / 2) ** (1 / 30)
+    whole = run_campaign(spec, progress=False, until=plan, store=tmp_path / "whole")
+    assert len(whole.metrics) == 30 and whole.sequential["easy"].decision == "pass"
+
+    store = tmp_path / "store"
+    real, calls = chunk_files.write_chunk, {"n": 0}
+
+    def fail_second_write(folder, out):
+        calls["n"] += 1
+        if calls["n"] == 2:
+            raise OSError(28, "No space left on device")
+        real(folder, out)
+
+    monkeypatch.setattr(chunk_files, "write_chunk", fail_second_write)
+    with pytest.raises(OSError, match="No space left"):
+        run_campaign(spec, progress=False, until=plan, store=store)
+    monkeypatch.setattr(chunk_files, "write_chunk", real)
+    other = SequentialPlan(confidence=0.95, max_trials=60, first_look=20, look_every=20)
+    with pytest.raises(ParameterError, match="planned differently"):
+        run_campaign(spec, progress=False, until=other, store=store, resume=True)
+    assert main(["run", "--resume", str(store), "--quiet"]) == 0  # the CLI takes the plan from the store
+    got = read_store(store)
+    pd.testing.assert_frame_equal(got["metrics"], whole.metrics, check_exact=True, check_dtype=False)
+    assert got["timeseries"].sizes["trial"] == 30 and got["timeseries"].equals(whole.timeseries)
+
+
+def test_a_damaged_time_series_chunk_runs_again(tmp_path, spec, uninterrupted, monkeypatch) -> None:
+    store = tmp_path / "store"
+    real, calls = chunk_files.write_chunk, {"n": 0}
+
+    def stop_at_fifth(folder, out):
+        calls["n"] += 1
+        if calls["n"] == 5:
+            raise OSError(5, "Input/output error")
+        real(folder, out)
+
+    monkeypatch.setattr(chunk_files, "write_chunk", stop_at_fifth)
+    with pytest.raises(OSError):
+        run_campaign(spec, progress=False, store=store)
+    monkeypatch.setattr(chunk_files, "write_chunk", real)
+    series = store / "timeseries.zarr"
+    # Zarr format 3 chunk keys <array>/c/<i>/<j>: flip bytes in one chunk (its CRC-32C no longer matches)
+    # and delete another (it would read back as fill values without complaint)
+    bad = series / "xte_m" / "c" / "1" / "0"
+    data = bytearray(bad.read_bytes())
+    data[len(data) // 2] ^= 0xFF
+    bad.write_bytes(bytes(data))
+    (series / "heading_deg" / "c" / "3" / "0").unlink()
+    with pytest.warns(WavebenchWarning, match="cannot be read") as caught:
+        result = run_campaign(spec, progress=False, store=store, resume=True)
+    texts = " ".join(str(w.message) for w in caught)
+    assert "000000002-000000003" in texts and "000000006-000000007" in texts  # the two damaged chunks, named
+    assert result.complete
+    _same_as(store, uninterrupted)

@@ -2,7 +2,7 @@
 
 ``wavebench run SPEC --out DIR``
     Run a campaign into a store folder (spec, manifest, metrics.parquet,
-    timeseries.nc, verdicts.json).
+    timeseries.zarr, verdicts.json).
 ``wavebench report DIR``
     Write DIR/report.html, self-contained.
 ``wavebench demo [NAME] [--out DIR]``, ``wavebench demo --list``
@@ -76,13 +76,18 @@ def _run(args: argparse.Namespace) -> int:
         plan = Path(args.resume) / "chunks" / "plan.json"
         if not plan.is_file():
             raise ParameterError("resume", args.resume, "has no unfinished campaign to resume (no chunks/plan.json)")
-        record = bool(json.loads(plan.read_text(encoding="utf-8"))["record"])
+        planned = json.loads(plan.read_text(encoding="utf-8"))
+        record = bool(planned["record"])
         args.spec, args.out = str(Path(args.resume) / "spec.toml"), args.resume
     elif not args.spec or not args.out:
         raise ParameterError("run", "arguments", "needs a SPEC and --out DIR (or --resume DIR)")
     spec = load_spec(_spec_path(args.spec), args.set or ())
     until = None
-    if args.until_decided is not None:
+    if args.resume and planned.get("until"):  # the sequential plan the campaign started with
+        from .analysis.sequential import SequentialPlan
+
+        until = SequentialPlan(**planned["until"])
+    elif args.until_decided is not None:
         from .analysis.sequential import SequentialPlan
 
         every = args.batch_size or spec.campaign.batch_size

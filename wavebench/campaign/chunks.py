@@ -1,28 +1,28 @@
 """Finished chunks on disk as they arrive, so a killed campaign resumes where it stopped.
 
 While a campaign runs into a store folder, every chunk that finishes is
-written to ``DIR/chunks/``: its time series (``ts-<first>-<last>.nc``) and
-then its metrics and draws (``metrics-<first>-<last>.parquet``), each
-written to a temporary name and renamed into place, so a file under its
-final name is always whole. The metrics file is written last: a chunk is
-finished when it exists (and, when the campaign records, its time series
-does too). ``DIR/chunks/plan.json`` records the spec hash, the seed, the
-trial count, the batch size and whether the campaign records, and a resume
-refuses a store planned differently.
+written at once: its time series into the store's ``timeseries.zarr``
+(:mod:`wavebench.campaign.series`: whole Zarr chunks of its own, with
+checksums) and then its metrics and draws to
+``DIR/chunks/metrics-<first>-<last>.parquet`` (written under a temporary
+name and renamed into place, so a file under its final name is always
+whole). The metrics file is the commit marker: a chunk is finished when it
+exists (and, when the campaign records, its rows of the time series are on
+disk and readable). ``DIR/chunks/plan.json`` records the spec hash, the
+seed, the trial count, the batch size and whether the campaign records, and
+a resume refuses a store planned differently.
 
 :func:`finished_chunks` reads back the chunks that are finished and
-readable; a chunk whose file cannot be read (cut short, corrupted) is left
-out with a warning and runs again. When the campaign completes, the store
-is consolidated into its usual files: ``timeseries.nc`` streamed from the
-chunk files one chunk at a time (:func:`consolidate_timeseries`, so a
-campaign of any size never holds all its time series in memory), then
-``metrics.parquet``, ``verdicts.json`` and ``manifest.json`` by
-:func:`~wavebench.campaign.store.write_store`; the chunk files stay until
-then and are removed after it.
+readable; a chunk whose files cannot be read (cut short, corrupted, missing)
+is left out with a warning and runs again. When the campaign completes, the
+time series are already in place (nothing is consolidated or copied);
+``metrics.parquet``, ``verdicts.json`` and ``manifest.json`` are written by
+:func:`~wavebench.campaign.store.write_store` and the chunk folder removed.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import os
 import shutil
@@ -40,7 +40,6 @@ __all__ = [
     "CHUNKS_DIR",
     "chunk_name",
     "clear_chunks",
-    "consolidate_timeseries",
     "finished_chunks",
     "open_plan",
     "write_chunk",
@@ -55,25 +54,35 @@ def chunk_name(trials: np.ndarray) -> str:
     return f"{int(trials[0]):09d}-{int(trials[-1]):09d}"
 
 
-def _plan(spec: Spec, record: bool) -> dict[str, Any]:
+def _plan(spec: Spec, record: bool, until: Any) -> dict[str, Any]:
     c = spec.campaign
+    sequential = None if until is None else {f.name: getattr(until, f.name) for f in dataclasses.fields(until)}
     return {"spec_hash": spec_hash(spec), "seed": c.seed, "trials": c.trials, "batch_size": c.batch_size,
-            "record": bool(record)}  # fmt: skip
+            "record": bool(record), "until": sequential, "series_attrs": series_attrs(spec)}  # fmt: skip
 
 
-def open_plan(store: Path, spec: Spec, record: bool, *, resume: bool) -> Path:
+def series_attrs(spec: Spec) -> dict[str, Any]:
+    """Global attributes of a campaign's time series: spec hash, scenario, decimation interval [s]."""
+    return {"spec_hash": spec_hash(spec), "scenario": spec.scenario.name,
+            "decimation_s": float(spec.campaign.record_interval_s)}  # fmt: skip
+
+
+def open_plan(store: Path, spec: Spec, record: bool, *, resume: bool, until: Any = None) -> Path:
     """Create (or, resuming, check) the chunk folder of a store; returns it.
+
+    ``until`` is the campaign's sequential plan (or None); a resume must
+    give the same one, so that it stops where the uninterrupted run would.
 
     Raises
     ------
     ParameterError
         A new campaign into a folder holding another campaign's chunks, or a
         resume whose spec, seed, trials, batch size or recording differ from
-        the store's plan.
+        the store's plan (the sequential plan included).
     """
     folder = store / CHUNKS_DIR
     plan_file = folder / "plan.json"
-    want = _plan(spec, record)
+    want = _plan(spec, record, until)
     if plan_file.exists():
         have = json.loads(plan_file.read_text(encoding="utf-8"))
         if have != want:
@@ -108,23 +117,47 @@ def write_chunk(folder: Path, out: Any) -> None:
     """
     import pandas as pd
 
+    from .series import SERIES_NAME, create_series, write_series_chunk
+
     name = chunk_name(out.trials)
     if out.record is not None:
-        ts = folder / f"ts-{name}.nc"
-        tmp = folder / f"ts-{name}.nc.tmp"
-        out.record.to_netcdf(tmp, engine="h5netcdf")
-        os.replace(tmp, ts)
+        series = folder.parent / SERIES_NAME
+        if not series.exists():
+            plan = json.loads((folder / "plan.json").read_text(encoding="utf-8"))
+            create_series(series, out.record, plan["trials"], plan["batch_size"], plan["series_attrs"])
+        write_series_chunk(series, out.record, int(out.trials[0]))
     frame = pd.DataFrame({"trial": out.trials.astype(np.int64), **out.columns})
     tmp = folder / f"metrics-{name}.parquet.tmp"
     frame.to_parquet(tmp, index=False)
     os.replace(tmp, folder / f"metrics-{name}.parquet")
 
 
+def _series_readable(series: Path) -> bool:
+    """Whether the time-series store's own metadata reads; an unreadable one is removed (its chunks rerun)."""
+    import zarr
+
+    if not series.exists():
+        return True
+    try:
+        group = zarr.open_group(series, mode="r", zarr_format=3)
+        list(group.array_keys())
+        group["trial"].shape  # noqa: B018 - reads the array metadata
+    except (OSError, ValueError, KeyError) as exc:
+        warnings.warn(f"{series} cannot be read ({type(exc).__name__}: {exc}); every recorded chunk runs again",
+                      WavebenchWarning, stacklevel=3)  # fmt: skip
+        shutil.rmtree(series, ignore_errors=True)
+        return False
+    return True
+
+
 def finished_chunks(folder: Path, record: bool) -> dict[str, tuple[Any, Any]]:
     """The chunks already finished and readable: ``{name: (metrics frame, trials in its time series or None)}``."""
     import pandas as pd
-    import xarray as xr
 
+    from .series import SERIES_NAME, check_series_chunk
+
+    series = folder.parent / SERIES_NAME
+    series_ok = _series_readable(series) if record else True
     done: dict[str, tuple[Any, Any]] = {}
     for path in sorted(folder.glob("metrics-*.parquet")):
         name = path.name[len("metrics-") : -len(".parquet")]
@@ -132,11 +165,12 @@ def finished_chunks(folder: Path, record: bool) -> dict[str, tuple[Any, Any]]:
             frame = pd.read_parquet(path)
             ts = None
             whole_chunk_failed = bool(frame["failure_reason"].astype(str).str.startswith("error:").all())
-            if record and not whole_chunk_failed:  # readable and whole; the values stay on disk until consolidation
-                with xr.open_dataset(folder / f"ts-{name}.nc", engine="h5netcdf") as ds:
-                    ts = int(ds.sizes["trial"])
-                if ts != len(frame):
-                    raise ValueError(f"{ts} trials in the time series, {len(frame)} in the metrics")
+            if record and not whole_chunk_failed:  # its rows must be whole on disk
+                if not series_ok:
+                    raise ValueError("its time series were in the unreadable store")
+                first = int(frame["trial"].iloc[0])
+                check_series_chunk(series, first, len(frame))
+                ts = len(frame)
         except (OSError, ValueError, KeyError) as exc:
             warnings.warn(f"chunk {name} of {folder.parent} cannot be read ({type(exc).__name__}: {exc}); "
                           "it runs again", WavebenchWarning, stacklevel=2)  # fmt: skip
@@ -148,59 +182,3 @@ def finished_chunks(folder: Path, record: bool) -> dict[str, tuple[Any, Any]]:
 def clear_chunks(store: Path) -> None:
     """Remove the chunk folder once the store is consolidated."""
     shutil.rmtree(store / CHUNKS_DIR, ignore_errors=True)
-
-
-def consolidate_timeseries(folder: Path, names: list[str], out_path: Path, attrs: dict[str, Any]) -> None:
-    """Write the chunks' time series into one NetCDF file, one chunk in memory at a time.
-
-    Parameters
-    ----------
-    folder : Path
-        The chunk folder.
-    names : list of str
-        Chunk names in trial order (:func:`chunk_name`); a chunk that failed
-        as a whole has no time series and is left out, as in memory.
-    out_path : Path
-        The store's ``timeseries.nc`` (written to a temporary name, then renamed into place).
-    attrs : dict
-        Global attributes (spec hash, scenario, decimation).
-    """
-    import h5netcdf
-    import xarray as xr
-
-    from ..trial.recorder import SIGNALS
-
-    names = [name for name in names if (folder / f"ts-{name}.nc").exists()]  # a chunk that failed whole has none
-    if not names:
-        return
-    sizes = []
-    for name in names:
-        with xr.open_dataset(folder / f"ts-{name}.nc", engine="h5netcdf") as ds:
-            sizes.append(ds.sizes["trial"])
-            if not sizes[1:]:
-                time = ds["time"].values
-                signals = [v for v in ds.data_vars]
-    tmp = out_path.with_name(out_path.name + ".tmp")
-    with h5netcdf.File(tmp, "w") as f:
-        f.dimensions = {"trial": int(sum(sizes)), "time": int(time.size)}
-        tr = f.create_variable("trial", ("trial",), "i8")
-        tr.attrs["long_name"] = "trial index in the campaign"
-        tm = f.create_variable("time", ("time",), "f8")
-        tm[:] = time
-        tm.attrs["units"], tm.attrs["long_name"] = "s", "time since start"
-        out = {}
-        for name in signals:
-            var = f.create_variable(name, ("trial", "time"), "f4", fillvalue=np.float32(np.nan))
-            units, long_name = SIGNALS.get(name, ("", name))
-            var.attrs["units"], var.attrs["long_name"] = units, long_name
-            out[name] = var
-        for key, value in attrs.items():
-            f.attrs[key] = value
-        lo = 0
-        for name, k in zip(names, sizes, strict=True):
-            with xr.open_dataset(folder / f"ts-{name}.nc", engine="h5netcdf") as ds:
-                tr[lo : lo + k] = ds["trial"].values
-                for sig in signals:
-                    out[sig][lo : lo + k, :] = ds[sig].values
-            lo += k
-    os.replace(tmp, out_path)

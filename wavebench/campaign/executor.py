@@ -32,11 +32,11 @@ from ..analysis.verdicts import Verdict, evaluate_requirement
 from ..core.errors import ParameterError, WavebenchWarning
 from ..core.streams import TrialStreams
 from ..spec.build import build_environment
-from ..spec.io import spec_hash
 from ..spec.schema import Spec
 from ..trial.loop import BatchResult, run_batch
 from ..trial.recorder import SIGNALS
 from ..trial.setup import build_trial_setup, check_spec_against_craft, pilot_for
+from .chunks import series_attrs
 
 __all__ = ["CampaignResult", "ChunkOutput", "evaluate_verdicts", "run_campaign", "run_chunk", "with_overrides"]
 
@@ -280,7 +280,9 @@ def run_campaign(
     resume : bool
         Continue the unfinished campaign in ``store``: the chunks it holds
         are read back, only the missing ones run, and the result is the same
-        bits as an uninterrupted run.
+        bits as an uninterrupted run. With ``until``, give the same plan: the
+        chunks read back are looked at in trial order, as they were, so the
+        campaign stops where the uninterrupted one would.
 
     Returns
     -------
@@ -308,24 +310,24 @@ def run_campaign(
     spec = with_overrides(spec, trials=trials, seed=seed, batch_size=batch_size)
     check_spec_against_craft(spec)
     c = spec.campaign
-    if resume and (store is None or until is not None):
-        raise ParameterError("resume", resume, "needs a store folder, and cannot be combined with a sequential plan")
+    if resume and store is None:
+        raise ParameterError("resume", resume, "needs the store folder of the unfinished campaign")
     chunks = [np.arange(lo, min(lo + c.batch_size, c.trials)) for lo in range(0, c.trials, c.batch_size)]
     folder = None
     stored: dict[str, tuple[Any, Any]] = {}
     if store is not None:
         from .chunks import chunk_name, finished_chunks, open_plan
 
-        folder = open_plan(Path(store), spec, record, resume=resume)
+        folder = open_plan(Path(store), spec, record, resume=resume, until=until)
         stored = finished_chunks(folder, record) if resume else {}
-        chunks = [idx for idx in chunks if chunk_name(idx) not in stored]
+    missing = [idx for idx in chunks if folder is None or chunk_name(idx) not in stored]
     pilot = pilot_for(spec, spec.craft.build())
     start = time.perf_counter()
-    frames = [frame for frame, _ in stored.values()]
-    records = []  # with a store, time series stay on disk and are consolidated at the end
+    frames = []
+    records = []  # with a store, time series go to disk as chunks finish
     complete = False
     bar = tqdm(total=c.trials, desc="campaign", unit="trial", disable=not progress, smoothing=0.1)
-    done = sum(len(frame) for frame in frames)
+    done = sum(len(frame) for frame, _ in stored.values())
     bar.n = done
     try:
         with open_executor(c.executor if executor is None else executor, workers=workers,
@@ -340,57 +342,53 @@ def run_campaign(
                                          guide_factory=guide_factory, pilot_factory=pilot_factory,
                                          numba_threads=1)  # fmt: skip
                 _check_picklable(work, ex.description)
-            for out in ex.map(work, chunks):
-                if folder is not None:
-                    from .chunks import write_chunk
-
-                    try:
-                        write_chunk(folder, out)
-                    except OSError as exc:
-                        raise OSError(f"writing trials {out.trials[0]}-{out.trials[-1]} to {folder} failed "
-                                      f"({exc}); the chunks written before are kept: free space and resume with "
-                                      f"'wavebench run --resume {store}'") from exc  # fmt: skip
-                if out.error is not None:
-                    warnings.warn(f"trials {out.trials[0]}-{out.trials[-1]} failed: {out.error}", WavebenchWarning,
-                                  stacklevel=2)  # fmt: skip
-                frames.append(pd.DataFrame({"trial": out.trials.astype(np.int64), **out.columns}))
-                if out.record is not None and folder is None:
-                    records.append(out.record)
-                done += out.trials.size
-                bar.n = done
-                bar.refresh()
-                if monitor is not None:
-                    monitor.update({name: _met(frames[-1], req) for name, req in spec.requirements})
-                    if monitor.may_stop:
-                        break
+            outputs = ex.map(work, missing) if missing else iter(())
+            try:
+                for idx in chunks:  # in trial order: chunks read back from the store, the others as they come
+                    if folder is not None and chunk_name(idx) in stored:
+                        frames.append(stored[chunk_name(idx)][0])
+                    else:
+                        out = next(outputs)
+                        if folder is not None:
+                            _write_chunk(folder, out, store)
+                        if out.error is not None:
+                            warnings.warn(f"trials {out.trials[0]}-{out.trials[-1]} failed: {out.error}",
+                                          WavebenchWarning, stacklevel=2)  # fmt: skip
+                        frames.append(pd.DataFrame({"trial": out.trials.astype(np.int64), **out.columns}))
+                        if out.record is not None and folder is None:
+                            records.append(out.record)
+                        done += out.trials.size
+                        bar.n = done
+                        bar.refresh()
+                    if monitor is not None:
+                        monitor.update({name: _met(frames[-1], req) for name, req in spec.requirements})
+                        if monitor.may_stop:
+                            break
+            finally:  # a map left part way (a sequential stop) is closed while its executor is open
+                close = getattr(outputs, "close", None)
+                if close is not None:
+                    close()
         complete = True
     except KeyboardInterrupt:
         warnings.warn("campaign interrupted: keeping the batches that finished", WavebenchWarning, stacklevel=2)
     finally:
         bar.close()
     wall = time.perf_counter() - start
-    if stored:  # chunks read back and chunks run now, in trial order
-        order = np.argsort([int(f["trial"].iloc[0]) for f in frames], kind="stable")
-        frames = [frames[i] for i in order]
     metrics = pd.concat(frames, ignore_index=True) if frames else pd.DataFrame({"trial": []})
     for name, info in METRICS.items():
         if info.kind == "text" and name in metrics:
             metrics[name] = metrics[name].astype(str)
     timeseries = None
-    ts_attrs = {"spec_hash": spec_hash(spec), "scenario": spec.scenario.name,
-                "decimation_s": float(spec.campaign.record_interval_s)}  # fmt: skip
-    if folder is not None and record and complete and frames:
-        from .chunks import chunk_name, consolidate_timeseries
+    if folder is not None and record and complete:
+        from .series import SERIES_NAME, open_timeseries, shrink_series
 
-        names = sorted(chunk_name(f["trial"].to_numpy()) for f in frames)
-        nc = Path(store) / "timeseries.nc"
-        nc.unlink(missing_ok=True)
-        consolidate_timeseries(folder, names, nc, ts_attrs)
-        if nc.exists():
-            timeseries = xr.open_dataset(nc, engine="h5netcdf")  # read lazily
+        shrink_series(Path(store) / SERIES_NAME, len(metrics))  # a sequential plan may stop early
+        timeseries = open_timeseries(store)  # read lazily
     elif record and records:
         timeseries = xr.concat(records, dim="trial")
-        timeseries.attrs.update(ts_attrs)
+        # a chunk that failed as a whole has no record: its trials keep NaN rows, as in a store
+        timeseries = timeseries.reindex(trial=metrics["trial"].to_numpy())
+        timeseries.attrs.update(series_attrs(spec))
         for name, (units, long_name) in SIGNALS.items():
             if name in timeseries:
                 timeseries[name].attrs.update(units=units, long_name=long_name)
@@ -407,6 +405,17 @@ def run_campaign(
         write_store(result, store, timeseries_written=True)
         clear_chunks(Path(store))
     return result
+
+
+def _write_chunk(folder: Path, out: ChunkOutput, store: Any) -> None:
+    from . import chunks as chunk_files  # looked up at call time, so tests can make a write fail
+
+    try:
+        chunk_files.write_chunk(folder, out)
+    except OSError as exc:
+        raise OSError(f"writing trials {out.trials[0]}-{out.trials[-1]} to {folder.parent} failed ({exc}); the "
+                      f"chunks written before are kept: free space and resume with 'wavebench run --resume "
+                      f"{store}'") from exc  # fmt: skip
 
 
 def _met(frame: Any, req: Any) -> np.ndarray:

@@ -13,9 +13,12 @@ Layout of a store folder ``DIR``:
     One row per trial: ``trial``, the metrics of
     :data:`~wavebench.analysis.metric_names.METRICS` and one
     ``param.<toml path>`` column per drawn spec field.
-``timeseries.nc``
-    The recorded signals, dims (trial, time), units and long names
-    (NetCDF4 through h5netcdf); absent when recording was off.
+``timeseries.zarr``
+    The recorded signals, dims (trial, time), units and long names, in a
+    Zarr (format 3) store chunked along trials as the campaign was
+    (:mod:`wavebench.campaign.series`); written chunk by chunk while the
+    campaign runs; absent when recording was off. Stores of format
+    version 1 hold ``timeseries.nc`` (NetCDF4) instead, still readable.
 ``verdicts.json``
     A list of verdicts (:meth:`~wavebench.analysis.verdicts.Verdict.to_dict`).
 ``report.html``
@@ -28,6 +31,7 @@ import datetime as _dt
 import json
 import os
 import platform
+import shutil
 import sys
 from importlib import metadata
 from pathlib import Path
@@ -37,12 +41,13 @@ from ..analysis.verdicts import Verdict
 from ..core.errors import ParameterError
 from ..spec.io import dump_spec, load_spec, spec_hash
 from .executor import CampaignResult
+from .series import LEGACY_NAME, SERIES_NAME, open_timeseries, write_series
 
 __all__ = ["STORE_FORMAT", "STORE_FORMAT_VERSION", "export_netcdf", "package_versions", "read_store", "write_store"]
 
 STORE_FORMAT = "wavebench-store"
-STORE_FORMAT_VERSION = 1
-_PACKAGES = ("wavebench", "numpy", "scipy", "numba", "xarray", "pandas", "pyarrow", "h5netcdf", "pymap3d")
+STORE_FORMAT_VERSION = 2  # 2: time series in timeseries.zarr (1: timeseries.nc)
+_PACKAGES = ("wavebench", "numpy", "scipy", "numba", "xarray", "pandas", "pyarrow", "h5netcdf", "zarr", "pymap3d")
 
 
 def package_versions() -> dict[str, str]:
@@ -65,8 +70,8 @@ def write_store(result: CampaignResult, out_dir: str | os.PathLike[str], *, time
     out_dir : path-like
         The folder; existing store files in it are replaced.
     timeseries_written : bool
-        ``timeseries.nc`` is already in place (streamed from a campaign's
-        chunks); leave it as it is.
+        ``timeseries.zarr`` is already in place (written by a campaign's
+        chunks as they finished); leave it as it is.
 
     Returns
     -------
@@ -80,13 +85,14 @@ def write_store(result: CampaignResult, out_dir: str | os.PathLike[str], *, time
     spec = result.spec
     (out / "spec.toml").write_text(dump_spec(spec), encoding="utf-8")
     result.metrics.to_parquet(out / "metrics.parquet", index=False)
-    nc = out / "timeseries.nc"
+    series = out / SERIES_NAME
     if timeseries_written:
         pass
     elif result.timeseries is not None:
-        result.timeseries.to_netcdf(nc, engine="h5netcdf")
-    elif nc.exists():
-        nc.unlink()
+        write_series(result.timeseries, series, result.batch_size)
+    elif series.exists():
+        shutil.rmtree(series)
+    (out / LEGACY_NAME).unlink(missing_ok=True)
     verdicts = [v.to_dict() for v in result.verdicts]
     (out / "verdicts.json").write_text(json.dumps(verdicts, indent=1, allow_nan=False), encoding="utf-8")
     versions = package_versions()
@@ -119,7 +125,7 @@ def read_store(store_dir: str | os.PathLike[str]) -> dict[str, Any]:
     -------
     dict
         ``spec`` (Spec), ``manifest`` (dict), ``metrics`` (DataFrame),
-        ``timeseries`` (Dataset or None), ``verdicts`` (list of Verdict).
+        ``timeseries`` (Dataset opened lazily, or None), ``verdicts`` (list of Verdict).
 
     Raises
     ------
@@ -127,7 +133,6 @@ def read_store(store_dir: str | os.PathLike[str]) -> dict[str, Any]:
         When the folder is not a wavebench store.
     """
     import pandas as pd
-    import xarray as xr
 
     d = Path(store_dir)
     man_path = d / "manifest.json"
@@ -136,9 +141,7 @@ def read_store(store_dir: str | os.PathLike[str]) -> dict[str, Any]:
     manifest = json.loads(man_path.read_text(encoding="utf-8"))
     if manifest.get("format") != STORE_FORMAT:
         raise ParameterError("store", str(d), f"manifest.json must have format '{STORE_FORMAT}'")
-    ts = None
-    if (d / "timeseries.nc").is_file():
-        ts = xr.load_dataset(d / "timeseries.nc", engine="h5netcdf")
+    ts = open_timeseries(d)  # lazily: a large campaign's series are read when used
     verdicts = [Verdict.from_dict(v) for v in json.loads((d / "verdicts.json").read_text(encoding="utf-8"))]
     return {
         "spec": load_spec(d / "spec.toml"),

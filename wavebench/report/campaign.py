@@ -2,7 +2,7 @@
 
 :func:`campaign_report_html` reads a store folder written by
 ``wavebench run`` (``spec.toml``, ``manifest.json``, ``metrics.parquet``,
-optionally ``timeseries.nc`` and ``verdicts.json``) and returns one HTML page
+optionally ``timeseries.zarr`` and ``verdicts.json``) and returns one HTML page
 with inline CSS and SVG: no script, no network resource. It shows the
 caution, a run summary, the requirement verdicts with their confidence
 intervals, how the trials ended and why some failed, histograms of the main
@@ -207,9 +207,9 @@ def _read_manifest(store: Path) -> dict[str, Any]:
         raise ParameterError("manifest.json", type(manifest).__name__, "a JSON object")
     if manifest.get("format") != "wavebench-store":
         raise ParameterError("manifest.json format", manifest.get("format"), "'wavebench-store'")
-    if manifest.get("format_version") != 1:
+    if manifest.get("format_version") not in (1, 2):
         raise ParameterError("manifest.json format_version", manifest.get("format_version"),
-                             "1 (this wavebench reads store format 1)")  # fmt: skip
+                             "1 or 2 (this wavebench reads store formats 1 and 2)")  # fmt: skip
     return manifest
 
 
@@ -241,13 +241,9 @@ def _read_spec(store: Path) -> tuple[str, Any, str]:
 
 
 def _read_timeseries(store: Path) -> Any:
-    path = store / "timeseries.nc"
-    if not path.is_file():
-        return None
-    import xarray as xr
+    from ..campaign.series import open_timeseries
 
-    with xr.open_dataset(path, engine="h5netcdf") as ds:
-        return ds.load()
+    return open_timeseries(store)  # lazily: each section reads the signals it draws
 
 
 # ---------------------------------------------------------------------------
@@ -497,7 +493,7 @@ def _histograms_section(metrics: pd.DataFrame, verdicts: list[dict[str, Any]]) -
 def _xte_section(ds: Any) -> str:
     head = '<section id="xte"><h2>Cross-track error over time</h2>'
     if "xte_m" not in ds:
-        return head + "<p>timeseries.nc holds no xte_m: no cross-track-error bands.</p></section>"
+        return head + "<p>The time series hold no xte_m: no cross-track-error bands.</p></section>"
     xte = ds["xte_m"].transpose("trial", "time")
     t = np.asarray(ds["time"].values, dtype=float)
     v = np.asarray(xte.values, dtype=float)
@@ -526,7 +522,7 @@ def _xte_section(ds: Any) -> str:
 def _tracks_section(ds: Any, metrics: pd.DataFrame) -> str:
     head = '<section id="tracks"><h2>Tracks</h2>'
     if "north_m" not in ds or "east_m" not in ds:
-        return head + "<p>timeseries.nc holds no north_m/east_m: no tracks.</p></section>"
+        return head + "<p>The time series hold no north_m/east_m: no tracks.</p></section>"
     trials = [int(x) for x in np.asarray(ds["trial"].values)]
     ended: dict[int, str] = {}
     if "trial" in metrics and "ended" in metrics:
@@ -635,8 +631,8 @@ def campaign_report_html(store_dir: str | os.PathLike[str]) -> str:
     store_dir : str or path-like
         A store folder written by ``wavebench run`` (store format 1):
         ``manifest.json`` and ``metrics.parquet`` are required;
-        ``spec.toml``, ``timeseries.nc`` and ``verdicts.json`` are used when
-        present (without ``timeseries.nc`` the time-series sections are left
+        ``spec.toml``, ``timeseries.zarr`` and ``verdicts.json`` are used when
+        present (without time series the time-series sections are left
         out; without verdicts the page says there are no requirements).
 
     Returns
@@ -694,7 +690,7 @@ def campaign_report_html(store_dir: str | os.PathLike[str]) -> str:
         body += [section for _, _, section in nav_sections]
     else:
         body.append(
-            '<section id="timeseries"><h2>Time series</h2><p>timeseries.nc is not in the store: '
+            '<section id="timeseries"><h2>Time series</h2><p>The store holds no time series: '
             "no cross-track-error bands and no tracks.</p></section>"
         )
     body.append(_parameters_section(metrics, spec))

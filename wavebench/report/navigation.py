@@ -1,7 +1,7 @@
 """Navigation sections of the campaign HTML report.
 
 When a campaign ran a navigator (an estimator instead of truth navigation),
-its store's ``timeseries.nc`` holds finite values of the navigation signals
+its store's time series hold finite values of the navigation signals
 of :data:`wavebench.trial.recorder.SIGNALS` (``nav_err_m``, ``nees``,
 ``nis``, ``nav_north_m``/``nav_east_m``, ``fix_ok``). This module turns them
 into report sections:
@@ -143,7 +143,7 @@ def has_navigation(ds: Any) -> bool:
     Parameters
     ----------
     ds : xarray.Dataset or None
-        The store's ``timeseries.nc``.
+        The store's time series (``timeseries.zarr``).
 
     Returns
     -------
@@ -426,7 +426,7 @@ def _error_section(ds: Any, metrics: pd.DataFrame, windows: list[tuple[str, floa
     head = '<section id="nav-error"><h2>Navigation error</h2>'
     err = _signal(ds, "nav_err_m")
     if err is None:
-        return head + "<p>timeseries.nc holds no finite nav_err_m: no error bands.</p></section>"
+        return head + "<p>The time series hold no finite nav_err_m: no error bands.</p></section>"
     t = _time(ds)
     p5, p50, p95 = _nanpct(err, [5.0, 50.0, 95.0])
     svg = band_chart(
