@@ -189,7 +189,7 @@ def test_verify_fails_naming_the_cell_whose_saved_hash_or_visible_table_was_edit
     word = out2["metadata"]["wavebench"]["verdicts"]["track_keeping"]
     fake = "pass" if word != "pass" else "fail"
     at = html.index(f">{word}</span>", html.index("data-requirement='track_keeping'"))
-    out2["data"]["text/html"] = html[:at] + f">{fake}</span>" + html[at + len(word) + len("></span>"):]
+    out2["data"]["text/html"] = html[:at] + f">{fake}</span>" + html[at + len(word) + len("></span>") :]
     path = tmp_path / "tampered.ipynb"
     path.write_text(json.dumps(nb), encoding="utf-8")
     assert main(["verify", str(path), "--timeout", "300"]) == 1

@@ -395,4 +395,3 @@ def result_card(result: Any, *, timeseries: bool = True) -> ResultCard:
         verdicts=tuple(_verdict_dicts(result.verdicts)),
         complete=bool(result.complete),
     )
-
