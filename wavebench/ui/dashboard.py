@@ -1,0 +1,841 @@
+"""The campaign dashboard: verdicts, distributions, bands over time, inputs and drivers of a campaign.
+
+:class:`CampaignDashboard` shows a finished campaign (a store folder or a
+:class:`~wavebench.campaign.executor.CampaignResult`), or runs one with a
+progress bar fed per finished chunk and fills in when it is done:
+
+- the requirement verdicts with their intervals (a table);
+- the histogram and the empirical distribution function (ECDF) of a chosen
+  per-trial metric, with the requirement's threshold;
+- percentile bands (5-95 % with the median) of a recorded signal over time,
+  with a few sample trials;
+- a chosen metric against a chosen drawn input, one point per trial coloured
+  by whether it met the chosen requirement; clicking a point opens that
+  trial in a :class:`~wavebench.ui.player.TrialPlayer` below;
+- the drawn inputs ranked by their rank correlation with the requirement's
+  metric (:mod:`wavebench.analysis.sensitivity`);
+- the operability matrix of :mod:`wavebench.report.study` (share meeting the
+  requirement per wave direction and Hs bin), when the trials drew both.
+
+The plots show statistics, never one line per trial: the bands are
+percentiles computed in numpy, at most :data:`MAX_SAMPLE_TRIALS` trials are
+drawn as lines, and the scatter is one mark however many trials there are.
+The static twin (:meth:`CampaignDashboard.static_html`) holds the verdict
+table and the same charts as SVG.
+"""
+
+from __future__ import annotations
+
+import html
+import math
+import os
+import threading
+from collections.abc import Callable, Iterable, Iterator, Sequence
+from typing import Any
+
+import numpy as np
+import pandas as pd
+from numpy.typing import NDArray
+
+from ..core.errors import ParameterError
+from ..report.campaign import MAIN_METRICS, nan_percentiles
+from ..report.charts import _Axes, band_chart, histogram_chart, histogram_counts, share_matrix_chart, signed_bar_chart
+from ..report.html import cell_number, escape
+from ..report.navigation import NAV_METRICS
+from ..report.svg import PALETTE, Series, Svg, line_chart
+from ..report.study import DIRECTION_COLUMN, HS_COLUMN, MIN_CELL_TRIALS, Requirement, meets, operability
+from .twin import Twinned
+
+__all__ = ["BAND_PERCENTILES", "MAX_SAMPLE_TRIALS", "CampaignDashboard", "Band", "ecdf", "scatter_chart"]
+
+FloatArray = NDArray[np.float64]
+
+#: Percentiles of the bands over time: low, middle, high.
+BAND_PERCENTILES = (5.0, 50.0, 95.0)
+#: Most trials drawn as lines over the bands.
+MAX_SAMPLE_TRIALS = 5
+
+_PASS = "#2e7d32"
+_FAIL = "#b3261e"
+_NONE = "#777777"
+_VERDICT_STYLE = {
+    "pass": "background:#2e7d32;color:#fff",
+    "fail": "background:#b3261e;color:#fff",
+    "undecided": "background:#f2c94c;color:#3d2e00",
+}
+_SYMBOL = {"below": "<", "above": ">"}
+#: Signals offered for the bands, in order (those with finite values).
+_BAND_SIGNALS = ("xte_m", "nav_err_m", "heading_deg", "surge_mps", "sway_mps", "yaw_rate_dps", "power_w", "nees")
+
+
+def ecdf(values: Any) -> tuple[FloatArray, FloatArray]:
+    """The empirical distribution function of the finite values.
+
+    Returns
+    -------
+    x : ndarray of shape (n,)
+        The finite values, sorted.
+    f : ndarray of shape (n,)
+        ``(k + 1) / n``: the share of values <= ``x[k]``.
+
+    Examples
+    --------
+    >>> x, f = ecdf([3.0, 1.0, float("nan"), 2.0])
+    >>> x.tolist(), f.tolist()
+    ([1.0, 2.0, 3.0], [0.3333333333333333, 0.6666666666666666, 1.0])
+    """
+    v = np.asarray(values, dtype=float).ravel()
+    v = np.sort(v[np.isfinite(v)])
+    return v, np.arange(1, v.size + 1, dtype=float) / max(v.size, 1)
+
+
+def _steps(x: FloatArray, f: FloatArray) -> tuple[FloatArray, FloatArray]:
+    """Corner points of a right-continuous step function through (x, f), starting at 0."""
+    if x.size == 0:
+        return x, f
+    xs = np.repeat(x, 2)
+    fs = np.concatenate([[0.0], np.repeat(f, 2)[:-1]])
+    return xs, fs
+
+
+def scatter_chart(x: Any, y: Any, groups: Sequence[tuple[Any, str, str]], *, title: str = "", xlabel: str = "",
+                  ylabel: str = "", hline: float | None = None, hline_label: str = "", width: int = 540,
+                  height: int = 320) -> Svg:  # fmt: skip
+    """Render points as SVG, one colour per group.
+
+    Parameters
+    ----------
+    x, y : array_like of shape (n,)
+        Coordinates; points with a NaN are not drawn.
+    groups : sequence of (mask, label, colour)
+        ``mask`` (bool, shape (n,)) picks the group's points.
+    title, xlabel, ylabel : str
+    hline : float, optional
+        A dashed horizontal line (e.g. a requirement's threshold).
+    hline_label : str
+    width, height : int
+        Size [px].
+
+    Returns
+    -------
+    Svg
+        Each point is ``<circle class="point">`` with its group in ``data-group``.
+
+    Examples
+    --------
+    >>> svg = scatter_chart([0, 1, 2], [1, 2, 3], [([True, False, True], "met", "#2e7d32"),
+    ...                                             ([False, True, False], "not met", "#b3261e")])
+    >>> svg.count('class="point"'), svg.count('data-group="met"')
+    (3, 2)
+    """
+    xv, yv = np.asarray(x, dtype=float), np.asarray(y, dtype=float)
+    ok = np.isfinite(xv) & np.isfinite(yv)
+
+    def span(a: FloatArray, extra: Sequence[float] = ()) -> tuple[float, float]:
+        vals = np.concatenate([a[ok], np.asarray(extra, dtype=float)])
+        if vals.size == 0:
+            return 0.0, 1.0
+        lo, hi = float(vals.min()), float(vals.max())
+        if hi == lo:
+            lo, hi = lo - 0.5, hi + 0.5
+        pad = 0.05 * (hi - lo)
+        return lo - pad, hi + pad
+
+    ax = _Axes(width=width, height=height, top=48 if title else 30, xlim=span(xv),
+               ylim=span(yv, [hline] if hline is not None and math.isfinite(hline) else []))  # fmt: skip
+    out = ax.open(title, f"n = {int(ok.sum())}")
+    ax.grid(out, xlabel, ylabel)
+    if hline is not None and math.isfinite(hline):
+        Y = float(ax.py(hline))
+        out.append(f'<line class="threshold" x1="{ax.left}" y1="{Y:.2f}" x2="{ax.left + ax.pw}" y2="{Y:.2f}" '
+                   f'stroke="{_FAIL}" stroke-dasharray="6,3" stroke-width="1.4"/>')  # fmt: skip
+        if hline_label:
+            out.append(f'<text x="{ax.left + ax.pw - 4}" y="{Y - 4:.1f}" text-anchor="end" fill="{_FAIL}">'
+                       f"{html.escape(hline_label)}</text>")  # fmt: skip
+    X = float(ax.left)
+    for mask, label, color in groups:
+        m = np.asarray(mask, dtype=bool) & ok
+        for a, b in zip(ax.px(xv[m]), ax.py(yv[m]), strict=True):
+            out.append(f'<circle class="point" cx="{a:.1f}" cy="{b:.1f}" r="3" fill="{color}" fill-opacity="0.75" '
+                       f'data-group="{html.escape(label)}"/>')  # fmt: skip
+        out.append(f'<circle cx="{X + 5:.1f}" cy="{ax.top - 10}" r="4" fill="{color}"/>'
+                   f'<text x="{X + 13:.1f}" y="{ax.top - 6}">{html.escape(label)} ({int(m.sum())})</text>')  # fmt: skip
+        X += 30 + 6.6 * len(label) + 20
+    out.append("</svg>")
+    return Svg("\n".join(out))
+
+
+class Band:
+    """Percentile bands of one recorded signal across trials.
+
+    Attributes
+    ----------
+    signal : str
+    time_s : ndarray of shape (n_time,)
+    low, median, high : ndarray of shape (n_time,)
+        The :data:`BAND_PERCENTILES` across trials at each time (NaN where no trial has a value).
+    sample_trials : list of int
+        Trial numbers drawn as lines.
+    samples : ndarray of shape (len(sample_trials), n_time)
+    """
+
+    def __init__(self, signal: str, time_s: FloatArray, values: FloatArray, trials: Sequence[int]) -> None:
+        self.signal = signal
+        self.time_s = time_s
+        self.low, self.median, self.high = nan_percentiles(values, list(BAND_PERCENTILES), axis=0)
+        n = values.shape[0]
+        pick = np.unique(np.linspace(0, n - 1, min(MAX_SAMPLE_TRIALS, n)).round().astype(int)) if n else []
+        self.sample_trials = [int(trials[i]) for i in pick]
+        self.samples = values[pick] if n else np.zeros((0, time_s.size))
+
+
+class _CountingMap:
+    """An executor for :func:`~wavebench.campaign.executor.run_campaign` that reports each finished chunk.
+
+    It opens the named (or given) executor and passes its results through,
+    calling ``on_chunk(output)`` for each, in the main process.
+    """
+
+    def __init__(self, inner: Any, on_chunk: Callable[[Any], Any], *, workers: int | None = None,
+                 scheduler: str | None = None) -> None:  # fmt: skip
+        self.inner, self.on_chunk, self.workers, self.scheduler = inner, on_chunk, workers, scheduler
+
+    def map(self, fn: Callable[[Any], Any], items: Iterable[Any]) -> Iterator[Any]:
+        import numba
+
+        from ..campaign.executors import open_executor
+
+        threads = numba.get_num_threads()
+        try:
+            with open_executor(self.inner, workers=self.workers, scheduler=self.scheduler) as ex:
+                for out in ex.map(fn, items):
+                    self.on_chunk(out)
+                    yield out
+        finally:
+            numba.set_num_threads(threads)  # an in-process chunk asked for one thread
+
+
+def _verdict_dicts(verdicts: Iterable[Any]) -> list[dict[str, Any]]:
+    return [dict(v.to_dict()) if hasattr(v, "to_dict") else dict(v) for v in verdicts]
+
+
+def _num(v: Any, digits: int = 3) -> str:
+    return "–" if v is None else cell_number(v, digits)
+
+
+def _in_kernel() -> bool:
+    try:
+        from IPython import get_ipython
+    except ImportError:  # pragma: no cover
+        return False
+    shell = get_ipython()
+    return shell is not None and getattr(shell, "kernel", None) is not None
+
+
+class CampaignDashboard(Twinned):
+    """A campaign's verdicts and statistics as one panel; click a trial to replay it.
+
+    Parameters
+    ----------
+    spec : Spec, optional
+        The campaign's spec (needed to replay a clicked trial).
+    metrics : pandas.DataFrame, optional
+        One row per trial (a store's ``metrics.parquet``).
+    timeseries : xarray.Dataset, optional
+        Recorded signals, dims (trial, time).
+    verdicts : sequence of Verdict or dict
+        One per requirement.
+    store_dir : path-like, optional
+        The store folder, when there is one (a clicked trial is then
+        compared with its stored row).
+
+    Without ``metrics`` the panel shows only its progress bar, until
+    :meth:`fill` is called (as :meth:`run` does).
+
+    Attributes
+    ----------
+    widget : ipywidgets.VBox
+    progress : ipywidgets.IntProgress
+        Trials finished (fed per chunk by :meth:`run`).
+    verdicts : list of dict
+        As in ``verdicts.json``.
+    marks : dict of str to bqplot.Mark
+        ``hist``, ``ecdf``, ``band``, ``median``, ``samples``, ``scatter``, ``sensitivity``, ...
+    player : TrialPlayer or None
+        The trial opened from the scatter.
+    """
+
+    title = "Campaign dashboard"
+
+    def __init__(self, spec: Any = None, metrics: Any = None, timeseries: Any = None, verdicts: Iterable[Any] = (),
+                 *, store_dir: str | os.PathLike[str] | None = None) -> None:  # fmt: skip
+        import ipywidgets as w
+
+        self.progress = w.IntProgress(value=0, min=0, max=1, description="trials", bar_style="info")
+        self.status = w.Label("")
+        self.body = w.VBox([])
+        self.widget = w.VBox([w.HBox([self.progress, self.status]), self.body])
+        self.spec = spec
+        self.metrics: pd.DataFrame | None = None
+        self.timeseries = None
+        self.verdicts: list[dict[str, Any]] = []
+        self.store_dir = store_dir
+        self.player: Any = None
+        self.marks: dict[str, Any] = {}
+        self.error: BaseException | None = None
+        self._thread: threading.Thread | None = None
+        if metrics is not None:
+            self.fill(spec, metrics, timeseries, verdicts, store_dir=store_dir)
+
+    # ------------------------------------------------------------------ construction
+
+    @classmethod
+    def from_store(cls, store_dir: str | os.PathLike[str]) -> CampaignDashboard:
+        """The dashboard of a store folder written by ``wavebench run``."""
+        from ..campaign import read_store
+
+        store = read_store(store_dir)
+        return cls(store["spec"], store["metrics"], store["timeseries"], store["verdicts"], store_dir=store_dir)
+
+    @classmethod
+    def from_result(cls, result: Any, *, store_dir: str | os.PathLike[str] | None = None) -> CampaignDashboard:
+        """The dashboard of a :class:`~wavebench.campaign.executor.CampaignResult`."""
+        return cls(result.spec, result.metrics, result.timeseries, result.verdicts, store_dir=store_dir)
+
+    @classmethod
+    def run(cls, spec: Any, *, display: bool = True, background: bool = False,
+            **run_campaign_kwargs: Any) -> CampaignDashboard:  # fmt: skip
+        """Run a campaign with a progress bar, and fill the dashboard in when it is done.
+
+        Parameters
+        ----------
+        spec : Spec
+        display : bool
+            In a notebook, show the panel as the run starts, so that the
+            progress bar moves (assign the result, ``dash = ...``, so that the
+            cell does not show it a second time).
+        background : bool
+            Run in a thread and return at once; :meth:`wait` joins it.
+        **run_campaign_kwargs
+            Passed to :func:`~wavebench.campaign.executor.run_campaign`
+            (``trials``, ``seed``, ``batch_size``, ``executor``, ``workers``,
+            ``scheduler``, ``store``, ``until``, ...). ``progress`` (the text
+            bar) is off unless asked for.
+
+        Returns
+        -------
+        CampaignDashboard
+
+        Notes
+        -----
+        The progress bar counts the trials of each chunk as it comes back,
+        through an executor wrapper that passes the chosen executor's results
+        on unchanged; results are the same bits as without it.
+        """
+        from ..campaign.executor import run_campaign, with_overrides
+
+        kw = dict(run_campaign_kwargs)
+        until = kw.get("until")
+        planned = with_overrides(spec, trials=until.max_trials if until is not None else kw.get("trials"))
+        dash = cls(spec, store_dir=kw.get("store"))
+        dash.progress.max = int(planned.campaign.trials)
+        dash.status.value = f"0 of {planned.campaign.trials} trials"
+
+        def on_chunk(out: Any) -> None:
+            dash.progress.value = min(dash.progress.value + int(np.size(out.trials)), dash.progress.max)
+            dash.status.value = f"{dash.progress.value} of {dash.progress.max} trials"
+
+        inner = kw.pop("executor", None) or spec.campaign.executor
+        kw["executor"] = _CountingMap(inner, on_chunk, workers=kw.pop("workers", None),
+                                      scheduler=kw.pop("scheduler", None))  # fmt: skip
+        kw.setdefault("progress", False)
+
+        def job() -> None:
+            try:
+                result = run_campaign(spec, **kw)
+            except BaseException as exc:  # reported in the panel and re-raised by wait()
+                dash.error = exc
+                dash.progress.bar_style = "danger"
+                dash.status.value = f"stopped: {type(exc).__name__}: {exc}"
+                if not background:
+                    raise
+                return
+            dash.progress.value = len(result.metrics)
+            dash.progress.bar_style = "success" if result.complete else "warning"
+            dash.status.value = f"{len(result.metrics)} trials" + ("" if result.complete else " (interrupted)")
+            dash.fill(result.spec, result.metrics, result.timeseries, result.verdicts, store_dir=kw.get("store"))
+
+        if display and _in_kernel():
+            from IPython.display import display as show
+
+            show(dash)
+        if background:
+            dash._thread = threading.Thread(target=job, name="wavebench-campaign", daemon=True)
+            dash._thread.start()
+        else:
+            job()
+        return dash
+
+    def wait(self, timeout: float | None = None) -> CampaignDashboard:
+        """Wait for a background run; re-raise its error if it failed."""
+        if self._thread is not None:
+            self._thread.join(timeout)
+        if self.error is not None:
+            raise self.error
+        return self
+
+    # ------------------------------------------------------------------ data
+
+    def fill(self, spec: Any, metrics: Any, timeseries: Any, verdicts: Iterable[Any], *,
+             store_dir: str | os.PathLike[str] | None = None) -> None:  # fmt: skip
+        """Show a finished campaign (replaces what the panel showed)."""
+        self.spec = spec
+        self.metrics = metrics.reset_index(drop=True)
+        self.timeseries = timeseries
+        self.verdicts = _verdict_dicts(verdicts)
+        self.store_dir = store_dir
+        self.trials = self.metrics["trial"].to_numpy(dtype=np.int64) if "trial" in self.metrics else np.arange(
+            len(self.metrics))  # fmt: skip
+        self.requirements = [
+            Requirement(str(v["name"]), str(v["metric"]), str(v["comparator"]), float(v["threshold"]),
+                        float(v["probability"]) if v.get("probability") is not None else math.nan,
+                        str(v.get("unit") or ""))
+            for v in self.verdicts
+            if v.get("comparator") in _SYMBOL and v.get("threshold") is not None and v.get("metric") in self.metrics
+        ]  # fmt: skip
+        self.progress.max = max(len(self.metrics), 1)
+        self.progress.value = len(self.metrics)
+        if not self.status.value:
+            self.status.value = f"{len(self.metrics)} trials"
+        self._bands: dict[str, Band] = {}
+        self._build()
+
+    def metric_names(self) -> list[str]:
+        """Numeric per-trial metrics with finite values: the requirements' first, then the report's main ones."""
+        m = self.metrics
+        names = [r.metric for r in self.requirements]
+        names += [c for c, _, _ in MAIN_METRICS] + [c for c, _, _ in NAV_METRICS]
+        names += [str(c) for c in m.columns if not str(c).startswith("param.")]
+        out = []
+        for c in names:
+            if c in out or c not in m or c == "trial" or m[c].dtype.kind not in "iuf":
+                continue
+            if np.isfinite(m[c].to_numpy(dtype=float)).any():
+                out.append(c)
+        return out
+
+    def input_names(self) -> list[str]:
+        """The drawn inputs (``param.<path>`` columns) with finite values."""
+        m = self.metrics
+        return [str(c) for c in m.columns if str(c).startswith("param.") and m[c].dtype.kind in "biuf"
+                and np.isfinite(m[c].to_numpy(dtype=float)).any()]  # fmt: skip
+
+    def signal_names(self) -> list[str]:
+        """Recorded signals offered for the bands (those with finite values)."""
+        ds = self.timeseries
+        if ds is None:
+            return []
+        return [s for s in _BAND_SIGNALS if s in ds and np.isfinite(np.asarray(ds[s].values, dtype=float)).any()]
+
+    def band(self, signal: str) -> Band:
+        """The percentile bands of a recorded signal (computed once, in numpy)."""
+        if signal not in self._bands:
+            ds = self.timeseries
+            if ds is None or signal not in ds:
+                raise ParameterError("signal", signal, f"a recorded signal of the campaign: {self.signal_names()}")
+            values = np.asarray(ds[signal].transpose("trial", "time").values, dtype=float)
+            trials = [int(t) for t in np.asarray(ds["trial"].values)]
+            self._bands[signal] = Band(signal, np.asarray(ds["time"].values, dtype=float), values, trials)
+        return self._bands[signal]
+
+    def requirement(self, name: str | None) -> Requirement | None:
+        """The requirement called ``name`` (None when there is none)."""
+        return next((r for r in self.requirements if r.name == name), None)
+
+    def met(self, req: Requirement | None) -> NDArray[np.bool_] | None:
+        """Which trials met a requirement (a NaN metric does not), or None without one."""
+        if req is None:
+            return None
+        return meets(pd.to_numeric(self.metrics[req.metric], errors="coerce").to_numpy(dtype=float), req.comparator,
+                     req.threshold)  # fmt: skip
+
+    def _values(self, column: str) -> FloatArray:
+        return pd.to_numeric(self.metrics[column], errors="coerce").to_numpy(dtype=float)
+
+    # ------------------------------------------------------------------ tables
+
+    def verdict_table(self) -> str:
+        """The requirement verdicts with their intervals, as an HTML table (one ``verdict-row`` per requirement)."""
+        if not self.verdicts:
+            return "<p>No requirements in the spec: nothing to pass or fail.</p>"
+        head = ("<tr><th>requirement</th><th>condition</th><th>met / trials</th>"
+                "<th>P(met) [Clopper–Pearson interval]</th><th>quantile [bootstrap interval]</th>"
+                "<th>verdict</th></tr>")  # fmt: skip
+        rows = []
+        for v in self.verdicts:
+            unit = f" {escape(v.get('unit') or '')}" if v.get("unit") else ""
+            word = str(v.get("verdict", "?"))
+            style = _VERDICT_STYLE.get(word, "background:#ddd;color:#222")
+            cond = (f"<code>{escape(v.get('metric', '?'))}</code> {_SYMBOL.get(str(v.get('comparator')), '?')} "
+                    f"{_num(v.get('threshold'), 4)}{unit} with probability ≥ {_num(v.get('probability'), 4)}")  # fmt: skip
+            failed = f" ({escape(v.get('n_failed'))} without a value)" if v.get("n_failed") else ""
+            rows.append(
+                f"<tr class='verdict-row' data-requirement=\"{escape(v.get('name', '?'))}\" "
+                f"data-verdict=\"{escape(word)}\"><td>{escape(v.get('name', '?'))}</td><td>{cond}</td>"
+                f"<td>{escape(v.get('n_met', '–'))} / {escape(v.get('n_trials', '–'))}{failed}</td>"
+                f"<td>{_num(v.get('p_hat'))} [{_num(v.get('p_low'))}, {_num(v.get('p_high'))}] at "
+                f"{_num(100.0 * float(v['confidence']) if v.get('confidence') is not None else None)} % confidence</td>"
+                f"<td>q<sub>{_num(v.get('quantile_level'))}</sub> = {_num(v.get('quantile_value'), 4)}{unit} "
+                f"[{_num(v.get('quantile_low'), 4)}, {_num(v.get('quantile_high'), 4)}]</td>"
+                f"<td><span class='verdict' style='{style};font-weight:bold;padding:0 0.4em;border-radius:3px'>"
+                f"{escape(word)}</span></td></tr>"
+            )  # fmt: skip
+        return ("<table class='wavebench-verdicts' style='border-collapse:collapse'>" + head + "".join(rows)
+                + "</table>")  # fmt: skip
+
+    # ------------------------------------------------------------------ live panel
+
+    def _build(self) -> None:
+        import bqplot as bq
+        import ipywidgets as w
+
+        metrics = self.metric_names()
+        inputs = self.input_names()
+        signals = self.signal_names()
+        req_names = [r.name for r in self.requirements]
+        self.verdict_html = w.HTML(self.verdict_table())
+        self.requirement_picker = w.Dropdown(options=req_names or ["(none)"], description="requirement")
+        first = self.requirements[0].metric if self.requirements else (metrics[0] if metrics else None)
+        self.metric_picker = w.Dropdown(options=metrics, value=first if first in metrics else None,
+                                        description="metric")  # fmt: skip
+        start = self.strongest_input(first) if inputs and first in metrics else (inputs[0] if inputs else None)
+        self.input_picker = w.Dropdown(options=inputs, value=start, description="input")
+        self.signal_picker = w.Dropdown(options=signals, value=signals[0] if signals else None, description="signal")
+
+        # distribution: histogram and ECDF
+        hx, hy = bq.LinearScale(), bq.LinearScale(min=0.0)
+        self.marks["hist"] = bq.Bars(x=np.zeros(1), y=np.zeros(1), scales={"x": hx, "y": hy}, colors=[PALETTE[0]],
+                                     padding=0.0, opacities=[0.85])  # fmt: skip
+        unit = bq.LinearScale(min=0.0, max=1.0)
+        self.marks["hist_threshold"] = bq.Lines(x=np.zeros(2), y=np.array([0.0, 1.0]), scales={"x": hx, "y": unit},
+                                                colors=[_FAIL], line_style="dashed", visible=False)  # fmt: skip
+        self.hist_figure = bq.Figure(marks=[self.marks["hist"], self.marks["hist_threshold"]], title="Histogram",
+                                     axes=[bq.Axis(scale=hx, label="value"),
+                                           bq.Axis(scale=hy, label="trials", side="left")],
+                                     fig_margin=dict(top=40, bottom=45, left=55, right=15),
+                                     layout=w.Layout(width="420px", height="280px"))  # fmt: skip
+        ex, ey = bq.LinearScale(), bq.LinearScale(min=0.0, max=1.0)
+        self.marks["ecdf"] = bq.Lines(x=np.zeros(1), y=np.zeros(1), scales={"x": ex, "y": ey}, colors=[PALETTE[0]],
+                                      interpolation="step-after")  # fmt: skip
+        self.marks["ecdf_threshold"] = bq.Lines(x=np.zeros(2), y=np.array([0.0, 1.0]), scales={"x": ex, "y": ey},
+                                                colors=[_FAIL], line_style="dashed", visible=False)  # fmt: skip
+        self.ecdf_figure = bq.Figure(marks=[self.marks["ecdf"], self.marks["ecdf_threshold"]], title="ECDF",
+                                     axes=[bq.Axis(scale=ex, label="value"),
+                                           bq.Axis(scale=ey, label="share of trials <= value", side="left")],
+                                     fig_margin=dict(top=40, bottom=45, left=55, right=15),
+                                     layout=w.Layout(width="420px", height="280px"))  # fmt: skip
+
+        # bands over time
+        tx, ty = bq.LinearScale(), bq.LinearScale()
+        self.marks["band"] = bq.Lines(x=np.zeros(2), y=np.zeros((2, 2)), scales={"x": tx, "y": ty}, fill="between",
+                                      colors=[PALETTE[0], PALETTE[0]], fill_colors=[PALETTE[0]],
+                                      fill_opacities=[0.2], stroke_width=0.5,
+                                      labels=[f"{BAND_PERCENTILES[0]:g} %", f"{BAND_PERCENTILES[2]:g} %"])  # fmt: skip
+        self.marks["samples"] = bq.Lines(x=np.zeros(2), y=np.zeros((1, 2)), scales={"x": tx, "y": ty},
+                                         colors=list(PALETTE[1:]), stroke_width=0.8, opacities=[0.7])  # fmt: skip
+        self.marks["median"] = bq.Lines(x=np.zeros(1), y=np.zeros(1), scales={"x": tx, "y": ty}, colors=["#0d4557"],
+                                        stroke_width=2.0, labels=["median"])  # fmt: skip
+        self.band_figure = bq.Figure(marks=[self.marks["band"], self.marks["samples"], self.marks["median"]],
+                                     title="Across trials over time",
+                                     axes=[bq.Axis(scale=tx, label="time [s]"),
+                                           bq.Axis(scale=ty, label="value", side="left")],
+                                     fig_margin=dict(top=40, bottom=45, left=60, right=15),
+                                     layout=w.Layout(width="640px", height="300px"))  # fmt: skip
+
+        # metric against input, coloured by the requirement; click opens a trial
+        sx, sy = bq.LinearScale(), bq.LinearScale()
+        cs = bq.ColorScale(colors=[_FAIL, _PASS], min=0.0, max=1.0)
+        self.marks["scatter"] = bq.Scatter(x=np.zeros(1), y=np.zeros(1), color=np.zeros(1),
+                                           scales={"x": sx, "y": sy, "color": cs}, default_size=20,
+                                           opacities=[0.8], stroke="#ffffff")  # fmt: skip
+        self.marks["scatter"].on_element_click(self._on_scatter_click)
+        self.marks["scatter_threshold"] = bq.Lines(x=np.zeros(2), y=np.zeros(2), scales={"x": sx, "y": sy},
+                                                   colors=[_FAIL], line_style="dashed", visible=False)  # fmt: skip
+        self.scatter_figure = bq.Figure(marks=[self.marks["scatter"], self.marks["scatter_threshold"]],
+                                        title="Metric against a drawn input (green: met, red: not met)",
+                                        axes=[bq.Axis(scale=sx, label="input"),
+                                              bq.Axis(scale=sy, label="metric", side="left")],
+                                        fig_margin=dict(top=40, bottom=45, left=60, right=15),
+                                        layout=w.Layout(width="520px", height="340px"))  # fmt: skip
+
+        # sensitivity ranking
+        rx, ry = bq.OrdinalScale(), bq.LinearScale(min=-1.0, max=1.0)
+        self.marks["sensitivity"] = bq.Bars(x=["-"], y=np.zeros(1), scales={"x": rx, "y": ry},
+                                            orientation="horizontal", colors=[PALETTE[1]], padding=0.2)  # fmt: skip
+        self.sensitivity_figure = bq.Figure(marks=[self.marks["sensitivity"]], title="Drawn inputs by Spearman rho",
+                                            axes=[bq.Axis(scale=rx, side="left"),
+                                                  bq.Axis(scale=ry, label="rank correlation rho with the metric")],
+                                            fig_margin=dict(top=40, bottom=45, left=190, right=15),
+                                            layout=w.Layout(width="520px", height="340px"))  # fmt: skip
+        self.sensitivity_note = w.HTML("")
+        self.operability_html = w.HTML(self._operability_html())
+        self.player_box = w.VBox([w.HTML("<i>Click a point of the scatter to replay that trial here.</i>")])
+
+        for picker in (self.requirement_picker, self.metric_picker):
+            picker.observe(lambda _c: (self._update_distribution(), self._update_scatter()), names="value")
+        self.requirement_picker.observe(lambda _c: self._update_operability(), names="value")
+        self.input_picker.observe(lambda _c: self._update_scatter(), names="value")
+        self.signal_picker.observe(lambda _c: self._update_band(), names="value")
+
+        def head(text: str) -> Any:
+            return w.HTML(f"<h4 style='margin:0.8em 0 0.2em 0'>{escape(text)}</h4>")
+
+        sections = [head("Requirement verdicts"), self.verdict_html,
+                    w.HBox([self.requirement_picker, self.metric_picker, self.input_picker])]  # fmt: skip
+        if metrics:
+            sections += [head("Per-trial metric"), w.HBox([self.hist_figure, self.ecdf_figure])]
+        if signals:
+            sections += [head("Over time"), self.signal_picker, self.band_figure]
+        if metrics and inputs:
+            sections += [head("Inputs and drivers"), w.HBox([self.scatter_figure, self.sensitivity_figure]),
+                         self.sensitivity_note]  # fmt: skip
+        sections += [head("Operability"), self.operability_html, head("Trial"), self.player_box]
+        self.body.children = sections
+        self._update_distribution()
+        self._update_band()
+        self._update_scatter()
+
+    def _threshold(self, column: str | None) -> Requirement | None:
+        req = self.requirement(self.requirement_picker.value)
+        return req if req is not None and req.metric == column else None
+
+    def _update_distribution(self) -> None:
+        col = self.metric_picker.value
+        if col is None:
+            return
+        v = self._values(col)
+        counts, edges, _, _ = histogram_counts(v)
+        x, f = ecdf(v)
+        req = self._threshold(col)
+        with self.marks["hist"].hold_sync(), self.marks["ecdf"].hold_sync():
+            self.marks["hist"].x = 0.5 * (edges[:-1] + edges[1:])
+            self.marks["hist"].y = counts.astype(float)
+            self.marks["ecdf"].x, self.marks["ecdf"].y = x, f
+        for key in ("hist_threshold", "ecdf_threshold"):
+            m = self.marks[key]
+            with m.hold_sync():
+                m.visible = req is not None
+                if req is not None:
+                    m.x = np.array([req.threshold, req.threshold])
+        self.hist_figure.axes[0].label = col
+        self.ecdf_figure.axes[0].label = col
+
+    def _update_band(self) -> None:
+        sig = self.signal_picker.value
+        if sig is None:
+            return
+        b = self.band(sig)
+        with self.marks["band"].hold_sync(), self.marks["median"].hold_sync(), self.marks["samples"].hold_sync():
+            self.marks["band"].x = b.time_s
+            self.marks["band"].y = np.vstack([b.low, b.high])
+            self.marks["median"].x, self.marks["median"].y = b.time_s, b.median
+            self.marks["samples"].x = b.time_s
+            self.marks["samples"].y = b.samples if b.samples.size else np.full((1, b.time_s.size), np.nan)
+            self.marks["samples"].labels = [f"trial {t}" for t in b.sample_trials]
+        unit = self.timeseries[sig].attrs.get("units", "")
+        self.band_figure.axes[1].label = f"{sig} [{unit}]" if unit else sig
+        self.band_figure.title = (f"{sig}: {BAND_PERCENTILES[0]:g}-{BAND_PERCENTILES[2]:g} % band and median across "
+                                  f"{len(self.metrics)} trials; {len(b.sample_trials)} sample trials")  # fmt: skip
+
+    def _update_scatter(self) -> None:
+        xcol, ycol = self.input_picker.value, self.metric_picker.value
+        if xcol is None or ycol is None:
+            return
+        x, y = self._values(xcol), self._values(ycol)
+        req = self.requirement(self.requirement_picker.value)
+        met = self.met(req)
+        keep = np.isfinite(x) & np.isfinite(y)
+        self._scatter_trials = self.trials[keep]
+        m = self.marks["scatter"]
+        with m.hold_sync():
+            m.x, m.y = x[keep], y[keep]
+            m.color = (met[keep] if met is not None else np.ones(int(keep.sum()), dtype=bool)).astype(float)
+        t = self._threshold(ycol)
+        line = self.marks["scatter_threshold"]
+        show = t is not None and bool(keep.any())
+        with line.hold_sync():
+            line.visible = show
+            if show:
+                line.x = np.array([np.min(x[keep]), np.max(x[keep])])
+                line.y = np.array([t.threshold, t.threshold])
+        self.scatter_figure.axes[0].label = xcol[len("param."):]
+        self.scatter_figure.axes[1].label = ycol
+        self._update_sensitivity(ycol)
+
+    def sensitivity(self, metric: str) -> pd.DataFrame:
+        """The drawn inputs ranked by Spearman rho with ``metric`` (:func:`~wavebench.analysis.sensitivity.rank_sensitivity`)."""
+        from ..analysis.sensitivity import rank_sensitivity
+
+        return rank_sensitivity(self.metrics, metrics=[metric], parameters=self.input_names())
+
+    def strongest_input(self, metric: str) -> str:
+        """The drawn input with the largest |Spearman rho| with ``metric`` (the first input when none is defined)."""
+        table = self.sensitivity(metric)
+        return str(table["parameter"].iloc[0]) if len(table) else self.input_names()[0]
+
+    def _update_sensitivity(self, metric: str) -> None:
+        table = self.sensitivity(metric)
+        rho = table["rho"].to_numpy(dtype=float)
+        labels = [str(p)[len("param."):] for p in table["parameter"]]
+        order = np.arange(len(labels))[::-1]  # strongest at the top
+        m = self.marks["sensitivity"]
+        with m.hold_sync():
+            m.x = [labels[i] for i in order]
+            m.y = np.nan_to_num(rho[order], nan=0.0)
+            m.colors = [PALETTE[1] if r > 0 else PALETTE[0] for r in np.nan_to_num(rho[order])]
+        self.sensitivity_figure.title = f"Drawn inputs by Spearman rho with {metric}"
+        n_undef = int(np.count_nonzero(~np.isfinite(rho)))
+        self.sensitivity_note.value = (
+            "<span style='color:#555'>Spearman rank correlation over the trials with both values "
+            "(scipy.stats.spearmanr); a screening measure for monotonic effects."
+            + (f" {n_undef} undefined (drawn as 0)." if n_undef else "") + "</span>"
+        )
+
+    def _operability_figures(self, req: Requirement) -> str:
+        """The operability chart and table of :mod:`wavebench.report.study` for one requirement ("" when none)."""
+        from ..report import study
+
+        m = self.metrics
+        if DIRECTION_COLUMN not in m or HS_COLUMN not in m:
+            return ""
+        d, h, met = self._values(DIRECTION_COLUMN), self._values(HS_COLUMN), self.met(req)
+        if hasattr(study, "route_course") and hasattr(study, "operability_polar_chart"):
+            if self.spec is None:
+                return ""  # the course, and so the relative wave heading, comes from the spec's route
+            course = study.route_course(self.spec.mission.waypoints())
+            sea = getattr(self.spec, "sea", None)
+            levels = {}
+            for key, field in (("direction_levels_deg", getattr(getattr(sea, "spreading", None), "mean_dir_deg", None)),
+                               ("hs_levels_m", getattr(sea, "hs_m", None))):  # fmt: skip
+                if getattr(field, "levels", None) is not None:  # a grid axis
+                    levels[key] = tuple(field.levels)
+            op = operability(d, h, met, course_deg=course.course_deg, **levels)
+            if op is None:
+                return ""
+            need = math.isfinite(req.probability)
+            svg = study.operability_polar_chart(op, min_count=MIN_CELL_TRIALS,
+                                                title=f"{req.name}: share meeting {req.text()}",
+                                                required=req.probability if need else None)  # fmt: skip
+            return (f"<div>{svg}<p style='color:#555;max-width:40em'>Relative wave heading against "
+                    f"{escape(course.text())}.</p></div>")  # fmt: skip
+        op = operability(d, h, met)  # the chart of wave direction x Hs before relative headings
+        if op is None:
+            return ""
+        return share_matrix_chart(op.dir_edges, op.hs_edges, op.met, op.count, min_count=MIN_CELL_TRIALS,
+                                  title=f"{req.name}: share meeting {req.text()}",
+                                  xlabel="drawn mean wave direction [deg]", ylabel="drawn Hs [m]")  # fmt: skip
+
+    def _operability_html(self) -> str:
+        req = self.requirement(self.requirement_picker.value)
+        svg = self._operability_figures(req) if req is not None else ""
+        if not svg:
+            return ("<p style='color:#555'>No operability matrix: it needs a requirement and trials that drew both "
+                    f"<code>{escape(DIRECTION_COLUMN)}</code> and <code>{escape(HS_COLUMN)}</code>.</p>")  # fmt: skip
+        return svg
+
+    def _update_operability(self) -> None:
+        self.operability_html.value = self._operability_html()
+
+    # ------------------------------------------------------------------ opening a trial
+
+    def _on_scatter_click(self, _mark: Any, event: dict[str, Any]) -> None:
+        data = event.get("data") or {}
+        index = data.get("index")
+        if index is None:
+            return
+        self.open_trial(int(self._scatter_trials[int(index)]))
+
+    def open_trial(self, trial: int) -> Any:
+        """Replay ``trial`` in a :class:`~wavebench.ui.player.TrialPlayer` below the charts and return it."""
+        from .player import TrialPlayer
+
+        if self.store_dir is not None:
+            player = TrialPlayer.from_store(self.store_dir, int(trial))
+        elif self.spec is not None:
+            player = TrialPlayer(self.spec, int(trial))
+        else:
+            raise ParameterError("spec", None, "the campaign's spec, to replay a trial")
+        self.player = player
+        self.player_box.children = [player.widget]
+        return player
+
+    # ------------------------------------------------------------------ static twin
+
+    def static_svgs(self) -> list[str]:
+        """The charts as SVG: per requirement its metric's histogram and ECDF, the scatter and the drivers;
+        the bands of each recorded signal offered; the operability matrices."""
+        out: list[str] = []
+        if self.metrics is None:
+            return out
+        shown = []
+        reqs = self.requirements or [None]
+        inputs = self.input_names()
+        for req in reqs:
+            col = req.metric if req is not None else (self.metric_picker.value if self.metric_names() else None)
+            if col is None:
+                continue
+            v = self._values(col)
+            t = [req.threshold] if req is not None else None
+            label = f"{req.name}: {req.text()}" if req is not None else ""
+            finite = bool(np.isfinite(v).any())
+            if col not in shown:
+                out.append(histogram_chart(v, title=col, xlabel=col, threshold=t, threshold_label=label))
+                shown.append(col)
+                if finite:
+                    x, f = ecdf(v)
+                    xs, fs = _steps(x, f)
+                    series = [Series(xs, fs, "ECDF")]
+                    if req is not None:
+                        series.append(Series([req.threshold] * 2, [0.0, 1.0], req.text(), color=_FAIL, dashed=True))
+                    out.append(line_chart(series, title=f"{col}: ECDF", xlabel=col, ylabel="share of trials <= value",
+                                          width=540, height=300, ylim=(0.0, 1.05)))  # fmt: skip
+            if inputs and finite:
+                table = self.sensitivity(col)
+                xcol = self.strongest_input(col)
+                met = self.met(req)
+                groups = ([(met, "met", _PASS), (~met, "not met", _FAIL)] if met is not None
+                          else [(np.ones(len(v), dtype=bool), "trials", _NONE)])  # fmt: skip
+                out.append(scatter_chart(self._values(xcol), v, groups, title=f"{col} against {xcol[len('param.'):]}",
+                                         xlabel=xcol[len("param."):], ylabel=col,
+                                         hline=req.threshold if req is not None else None,
+                                         hline_label=req.text() if req is not None else ""))  # fmt: skip
+                rho = table["rho"].to_numpy(dtype=float)
+                muted = [not (math.isfinite(r) and p <= 0.05) for r, p in zip(rho, table["p_value"], strict=True)]
+                out.append(signed_bar_chart([str(p)[len("param."):] for p in table["parameter"]], rho, muted=muted,
+                                            title=f"Drawn inputs by Spearman rho with {col}",
+                                            xlabel="Spearman rank correlation rho"))  # fmt: skip
+            if req is not None:
+                svg = self._operability_figures(req)
+                if svg:
+                    out.append(svg)
+        for sig in self.signal_names()[:2]:
+            b = self.band(sig)
+            lines = [Series(b.time_s, b.samples[k], f"trial {t}", color=PALETTE[1 + k % (len(PALETTE) - 1)],
+                            width=0.8, opacity=0.7) for k, t in enumerate(b.sample_trials)]  # fmt: skip
+            lines.append(Series(b.time_s, b.median, "median", color="#0d4557", width=1.8))
+            unit = self.timeseries[sig].attrs.get("units", "")
+            out.append(band_chart(b.time_s, [(b.low, b.high, f"{BAND_PERCENTILES[0]:g}–{BAND_PERCENTILES[2]:g} %")],
+                                  lines, title=f"{sig} across {len(self.metrics)} trials", xlabel="time [s]",
+                                  ylabel=f"{sig} [{unit}]" if unit else sig, width=640))  # fmt: skip
+        return out
+
+    def static_html(self) -> str:
+        """The verdict table and the charts as SVG (no script)."""
+        if self.metrics is None:
+            return f"<p>Campaign running: {self.progress.value} of {self.progress.max} trials.</p>"
+        src = f" from <code>{escape(self.store_dir)}</code>" if self.store_dir is not None else ""
+        head = f"<p>{len(self.metrics)} trials{src}.</p>"
+        figs = "".join(f"<figure style='margin:0'>{s}</figure>" for s in self.static_svgs())
+        return (f"{head}<h5>Requirement verdicts</h5>{self.verdict_table()}"
+                f"<div style='display:flex;flex-wrap:wrap;gap:8px'>{figs}</div>")  # fmt: skip
+
