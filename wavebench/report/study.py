@@ -11,10 +11,14 @@ metrics and the ``param.<toml path>`` draws) and the spec's requirements:
   undefined rho) are drawn pale.
 - *Operability*: when the trials drew both the sea's mean wave direction
   (``param.sea.spreading.mean_dir_deg``) and its significant wave height
-  (``param.sea.hs_m``), one matrix per requirement: 30-degree bins of the
-  wave direction against quantile bins of Hs, each cell coloured by the share
-  of its trials that met the requirement, with the count; cells with fewer
-  than 5 trials are hatched and labelled as too few.
+  (``param.sea.hs_m``) and the spec (its route) is known, per requirement a
+  polar chart and a matrix table of the share of trials that met it by wave
+  heading RELATIVE to the craft's course (:func:`relative_heading_deg`:
+  180 deg head seas, 0 following, 90/270 beam) and Hs. The course is that of
+  the route's longest leg (:func:`route_course`). Grid axes
+  (``{ grid = [...] }``) give exact cells, one per level; drawn values are
+  binned (30-degree sectors, Hs quantile bins). Cells with fewer than 5
+  trials are hatched.
 - *Closest to failing*: per requirement, the 5 trials with the least margin
   to the threshold (:func:`closest_trials`), trials without a value first,
   with how they ended, why they failed and what they drew; and the Python
@@ -28,10 +32,13 @@ References
 ----------
 .. [1] C. Spearman, "The proof and measurement of association between two
    things", American Journal of Psychology 15(1), 72-101, 1904.
+.. [2] T. I. Fossen, Handbook of Marine Craft Hydrodynamics and Motion
+   Control, 2nd ed., Wiley, 2021 (wave encounter angle and frequency).
 """
 
 from __future__ import annotations
 
+import hashlib
 import json
 import math
 from collections.abc import Sequence
@@ -42,32 +49,50 @@ import numpy as np
 import pandas as pd
 
 from ..analysis.sensitivity import PARAM_PREFIX, rank_sensitivity, requirement_sensitivity
-from .charts import share_matrix_chart, signed_bar_chart
+from ..core.errors import ParameterError
+from ..spec.distributions import Grid
+from .charts import signed_bar_chart
 from .html import cell_number, escape
+from .svg import Svg
 
 __all__ = [
+    "COURSE_TOLERANCE_DEG",
     "DIRECTION_COLUMN",
+    "HEADING_BIN_DEG",
     "HS_COLUMN",
     "MIN_CELL_TRIALS",
     "N_CLOSEST",
+    "SHARE_SCALE",
     "SIGNIFICANCE",
     "STUDY_CSS",
     "Operability",
     "Requirement",
+    "RouteCourse",
     "closest_trials",
     "meets",
     "operability",
+    "operability_polar_chart",
+    "operability_table",
+    "relative_heading_deg",
     "replay_code",
     "requirements_of",
+    "route_course",
+    "share_fill",
     "study_sections",
 ]
 
-#: Drawn input used as the wave direction of the operability matrix [deg].
+#: Drawn input used as the wave direction (coming from, clockwise from north) of the operability chart [deg].
 DIRECTION_COLUMN = "param.sea.spreading.mean_dir_deg"
-#: Drawn input used as the sea state of the operability matrix [m].
+#: Drawn input used as the sea state of the operability chart [m].
 HS_COLUMN = "param.sea.hs_m"
-#: Width of the wave-direction bins [deg].
-DIRECTION_BIN_DEG = 30.0
+#: Width of the relative-heading sectors for drawn (not grid) directions [deg].
+HEADING_BIN_DEG = 30.0
+#: Legs within this of a course count as on it (:func:`route_course`) [deg] (common practice, no source).
+COURSE_TOLERANCE_DEG = 10.0
+#: Relative tolerance of a value on a grid level (floats read back from the store).
+_LEVEL_TOL = 1e-9
+#: Stops of the operability colour scale, share 0 to 1 (:func:`share_fill`); CIE L* 96 down to 19.
+SHARE_SCALE = ("#fbf4dc", "#bfe0ab", "#7ec29e", "#3f9c9c", "#2b6f92", "#27467f", "#1f2a5c")
 #: Cells with fewer trials are shown as too few.
 MIN_CELL_TRIALS = 5
 #: Trials listed per requirement in "Closest to failing".
@@ -82,6 +107,10 @@ STUDY_CSS = """
 tr.muted td { color: #999; }
 .scroll { overflow-x: auto; max-width: 100%; }
 td.reason { min-width: 12rem; }
+table.operability td.cell { text-align: center; min-width: 3.2rem; }
+table.operability td.few { color: #555;
+  background: repeating-linear-gradient(45deg, #efefe9 0 4px, #dcdcd4 4px 6px); }
+table.operability td.empty { background: #fff; color: #999; }
 """
 
 
@@ -268,27 +297,177 @@ def _drivers_section(metrics: pd.DataFrame, reqs: list[Requirement]) -> str:
 # ---------------------------------------------------------------------------
 
 
+def relative_heading_deg(wave_from_deg: Any, course_deg: Any) -> np.ndarray:
+    """Relative wave heading of a craft on a course: 180 head seas, 0 following seas, 90/270 beam seas.
+
+    Parameters
+    ----------
+    wave_from_deg : array_like of shape (n,)
+        Direction the waves come FROM [deg], clockwise from north (the
+        spec's ``sea.spreading.mean_dir_deg``, see
+        :mod:`wavebench.sea.spreading`).
+    course_deg : float or array_like of shape (n,)
+        The craft's course [deg], clockwise from north.
+
+    Returns
+    -------
+    ndarray of shape (n,)
+        ``beta`` in [0, 360) [deg].
+
+    Notes
+    -----
+    The encounter angle is the direction the waves travel TOWARD minus the
+    craft's course [1]_:
+
+    .. math::
+
+        \\beta = (d_{from} + 180 - \\chi) \\bmod 360
+
+    so a craft heading north in waves from the north meets them head on
+    (180), and its encounter frequency
+    :math:`\\omega_e = \\omega - k U \\cos\\beta` is raised. 90 is a beam
+    sea travelling toward starboard (coming from port) and 270 one coming
+    from starboard, the same ``beta`` as
+    :func:`wavebench.sea.dispersion.encounter_frequency` and the RAO tables
+    of :mod:`wavebench.sea.rao`.
+
+    References
+    ----------
+    .. [1] T. I. Fossen, Handbook of Marine Craft Hydrodynamics and Motion
+       Control, 2nd ed., Wiley, 2021: the encounter frequency and the wave
+       encounter angle (180 deg head sea, 0 deg following sea).
+
+    Examples
+    --------
+    >>> relative_heading_deg([0.0, 180.0, 90.0], 0.0).tolist()  # heading north: waves from N, S, E
+    [180.0, 0.0, 270.0]
+    """
+    return np.mod(np.asarray(wave_from_deg, dtype=float) + 180.0 - np.asarray(course_deg, dtype=float), 360.0)
+
+
 @dataclass(frozen=True)
-class Operability:
-    """Trials that met a requirement per wave-direction and Hs bin.
+class RouteCourse:
+    """The course that a route's operability is shown against.
 
     Attributes
     ----------
-    dir_edges : ndarray of shape (nx + 1,)
-        Wave-direction bin edges [deg], multiples of the bin width.
-    hs_edges : ndarray of shape (ny + 1,)
-        Hs bin edges [m] (quantiles of the drawn Hs).
+    course_deg : float
+        Course of the longest leg [deg], clockwise from north, in [0, 360),
+        rounded to a whole degree (finer than a craft holds its course in a
+        seaway, and it keeps the relative headings of whole-degree wave
+        directions whole).
+    leg : int
+        That leg's number, from 1 (the first of equal longest legs).
+    n_legs : int
+    share : float
+        Fraction of the route's length on legs within
+        :data:`COURSE_TOLERANCE_DEG` of the course.
+    reciprocal_share : float
+        Fraction on legs within the tolerance of the reciprocal course.
+    """
+
+    course_deg: float
+    leg: int
+    n_legs: int
+    share: float
+    reciprocal_share: float
+
+    @property
+    def dominant(self) -> bool:
+        """Whether most of the route's length runs on this course."""
+        return self.share > 0.5
+
+    def text(self) -> str:
+        """How the course was chosen, for a caption."""
+        c = f"{self.course_deg:03.0f}°"
+        if self.dominant:
+            return (f"the route's course {c} (leg {self.leg} of {self.n_legs}; {self.share:.0%} of the route's length "
+                    f"runs within ±{COURSE_TOLERANCE_DEG:g}° of it)")  # fmt: skip
+        out = (f"the course of the route's longest leg, leg {self.leg} of {self.n_legs} ({c}): no single course "
+               f"covers most of the route (this one {self.share:.0%} of its length, within ±{COURSE_TOLERANCE_DEG:g}°)")
+        if self.reciprocal_share > 0:
+            out += (f"; {self.reciprocal_share:.0%} runs on the reciprocal course, where the same sea meets the craft "
+                    "from the opposite side (head seas on this course are following seas there)")
+        return out
+
+
+def route_course(waypoints_ne_m: Any) -> RouteCourse:
+    """The course of a route's longest leg, and how much of the route runs on it.
+
+    Parameters
+    ----------
+    waypoints_ne_m : array_like of shape (n_waypoints, 2)
+        ``[north, east]`` [m]; at least two, consecutive ones distinct.
+
+    Returns
+    -------
+    RouteCourse
+
+    Examples
+    --------
+    >>> rc = route_course([[0.0, 0.0], [100.0, 0.0], [100.0, 10.0], [0.0, 10.0]])
+    >>> rc.course_deg, rc.leg, round(rc.share, 3), round(rc.reciprocal_share, 3), rc.dominant
+    (0.0, 1, 0.476, 0.476, False)
+    """
+    wp = np.asarray(waypoints_ne_m, dtype=float)
+    if wp.ndim != 2 or wp.shape[0] < 2 or wp.shape[1] != 2 or not np.all(np.isfinite(wp)):
+        raise ParameterError("waypoints_ne_m", wp.tolist(), "at least two finite [north_m, east_m] pairs")
+    d = np.diff(wp, axis=0)
+    length = np.hypot(d[:, 0], d[:, 1])
+    if np.any(length == 0.0) or length.sum() == 0.0:
+        raise ParameterError("waypoints_ne_m", wp.tolist(), "consecutive waypoints must differ (a leg of length 0)")
+    course = np.mod(np.degrees(np.arctan2(d[:, 1], d[:, 0])), 360.0)
+    k = int(np.argmax(length))
+    off = np.abs(np.mod(course - course[k] + 180.0, 360.0) - 180.0)  # circular difference [0, 180]
+    total = float(length.sum())
+    share = float(length[off <= COURSE_TOLERANCE_DEG].sum()) / total
+    recip = float(length[off >= 180.0 - COURSE_TOLERANCE_DEG].sum()) / total
+    return RouteCourse(float(round(float(course[k])) % 360), k + 1, int(length.size), share, recip)
+
+
+@dataclass(frozen=True)
+class Operability:
+    """Trials that met a requirement per relative-wave-heading sector and Hs bin.
+
+    Attributes
+    ----------
+    course_deg : float
+        The craft's course the headings are relative to [deg].
+    heading_deg : ndarray of shape (nx,)
+        Sector centres: relative wave heading [deg] in [0, 360), increasing
+        (:func:`relative_heading_deg`; 180 head seas, 0 following seas).
+    half_width_deg : float
+        Each sector spans ``heading_deg +- half_width_deg``.
+    heading_grid : bool
+        The sectors are the levels of a grid axis (each trial sits exactly on
+        its sector's centre), not bins of drawn values.
+    hs_lo_m, hs_hi_m : ndarray of shape (ny,)
+        Hs bins ``[lo, hi)`` (the last closed) [m], increasing; for a grid
+        axis both equal the level.
+    hs_grid : bool
+        The Hs rows are the levels of a grid axis.
     met, count : ndarray of shape (ny, nx), int
         Trials that met the requirement, and all trials, per cell.
     n_left_out : int
-        Trials without a finite direction or Hs.
+        Trials without a finite direction or Hs, or off the grid's levels.
     """
 
-    dir_edges: np.ndarray
-    hs_edges: np.ndarray
+    course_deg: float
+    heading_deg: np.ndarray
+    half_width_deg: float
+    heading_grid: bool
+    hs_lo_m: np.ndarray
+    hs_hi_m: np.ndarray
+    hs_grid: bool
     met: np.ndarray
     count: np.ndarray
     n_left_out: int
+
+    @property
+    def share(self) -> np.ndarray:
+        """``met / count`` per cell, NaN where a cell has no trial; shape (ny, nx)."""
+        with np.errstate(invalid="ignore", divide="ignore"):
+            return np.where(self.count > 0, self.met / np.maximum(self.count, 1), np.nan)
 
 
 def _hs_bin_count(n: int) -> int:
@@ -303,93 +482,430 @@ def _bin_index(values: np.ndarray, edges: np.ndarray) -> np.ndarray:
     return idx
 
 
-def operability(direction_deg: Any, hs_m: Any, met: Any, *, bin_deg: float = DIRECTION_BIN_DEG,
-                n_hs_bins: int | None = None) -> Operability | None:  # fmt: skip
-    """Count trials that met a requirement per wave-direction and Hs bin.
+def _level_index(values: np.ndarray, levels: np.ndarray, *, circular: bool) -> np.ndarray:
+    """Index of the level each value equals (to rounding), -1 for none."""
+    diff = values[:, None] - levels[None, :]
+    if circular:
+        diff = np.mod(diff + 180.0, 360.0) - 180.0
+    hit = np.abs(diff) <= _LEVEL_TOL * np.maximum(1.0, np.abs(levels))[None, :]
+    return np.where(hit.any(axis=1), np.argmax(hit, axis=1), -1)
+
+
+def _grid_half_width(centres: np.ndarray, bin_deg: float) -> float:
+    """Half the smallest circular gap between grid headings, at most 22.5 deg (a 45-degree sector).
+
+    Eight or more evenly spaced headings tile the circle; a coarser grid
+    leaves the headings it did not run blank (display choice, no source).
+    """
+    if centres.size < 2:
+        return 0.5 * bin_deg
+    gaps = np.diff(np.concatenate([centres, centres[:1] + 360.0]))
+    return float(min(0.5 * gaps.min(), 22.5))
+
+
+def operability(wave_from_deg: Any, hs_m: Any, met: Any, *, course_deg: float, bin_deg: float = HEADING_BIN_DEG,
+                n_hs_bins: int | None = None, direction_levels_deg: Sequence[float] | None = None,
+                hs_levels_m: Sequence[float] | None = None) -> Operability | None:  # fmt: skip
+    """Count trials that met a requirement per relative wave heading and Hs.
 
     Parameters
     ----------
-    direction_deg : array_like of shape (n_trials,)
-        Drawn mean wave direction [deg]; taken modulo 360.
+    wave_from_deg : array_like of shape (n_trials,)
+        Mean wave direction of each trial [deg], the direction the waves come
+        FROM, clockwise from north (``param.sea.spreading.mean_dir_deg``).
     hs_m : array_like of shape (n_trials,)
-        Drawn significant wave height [m].
+        Significant wave height of each trial [m].
     met : array_like of shape (n_trials,), bool
         Whether each trial met the requirement.
+    course_deg : float
+        The craft's course [deg], clockwise from north (:func:`route_course`);
+        headings are :func:`relative_heading_deg` (180 head, 0 following).
     bin_deg : float
-        Width of the direction bins [deg]; edges are multiples of it from the
-        lowest to the highest occupied bin.
+        Width of the relative-heading sectors [deg] for drawn directions; a
+        divisor of 360. The sectors are centred on its multiples (so 180, head
+        seas, is a sector's centre) and cover the whole circle.
     n_hs_bins : int, optional
-        Hs bins at the quantiles ``k / n_hs_bins`` of the drawn Hs (repeated
-        edges merged); about one per 40 trials, 2 to 5, when omitted.
+        For drawn Hs: bins at the quantiles ``k / n_hs_bins`` of the drawn Hs
+        (repeated edges merged); about one per 40 trials, 2 to 5, when
+        omitted.
+    direction_levels_deg : sequence of float, optional
+        The levels of a grid axis on the wave direction (coming from); the
+        sectors are then centred on their relative headings, one per level
+        (width: the smallest gap between them, at most 45 deg).
+    hs_levels_m : sequence of float, optional
+        The levels of a grid axis on Hs; the rows are then the levels.
 
     Returns
     -------
     Operability or None
-        None when fewer than 2 trials have both values or Hs is constant.
+        None when fewer than 2 trials have both values, or a drawn (not grid)
+        Hs is constant.
+
+    Raises
+    ------
+    ParameterError
+        When ``bin_deg`` does not divide 360 or ``course_deg`` is not finite.
 
     Examples
     --------
-    >>> op = operability([190.0, 200.0, 250.0, 260.0], [1.0, 2.0, 1.0, 2.0], [True, False, True, True], n_hs_bins=2)
-    >>> op.dir_edges.tolist(), op.hs_edges.tolist(), op.met.tolist(), op.count.tolist()
-    ([180.0, 210.0, 240.0, 270.0], [1.0, 1.5, 2.0], [[1, 0, 1], [0, 0, 1]], [[1, 0, 1], [1, 0, 1]])
+    A craft on course 090 (east): waves from the east are head seas (180),
+    from the west following seas (0).
+
+    >>> op = operability([90.0, 95.0, 270.0, 268.0], [1.0, 2.0, 1.0, 2.0], [True, False, True, True],
+    ...                  course_deg=90.0, n_hs_bins=2)
+    >>> op.heading_deg[[0, 6]].tolist(), op.hs_lo_m.tolist(), op.met[:, [0, 6]].tolist(), op.count[:, [0, 6]].tolist()
+    ([0.0, 180.0], [1.0, 1.5], [[1, 1], [1, 0]], [[1, 1], [1, 1]])
     """
-    d = np.mod(np.asarray(direction_deg, dtype=float), 360.0)
-    h = np.asarray(hs_m, dtype=float)
-    ok = np.asarray(met, dtype=bool)
+    b = float(bin_deg)
+    n_sectors = 360.0 / b if b > 0 else math.nan
+    if not (math.isfinite(n_sectors) and abs(n_sectors - round(n_sectors)) < 1e-9 and round(n_sectors) >= 1):
+        raise ParameterError("bin_deg", bin_deg, "a divisor of 360 [deg] (e.g. 30, 45, 60)")
+    if not math.isfinite(float(course_deg)):
+        raise ParameterError("course_deg", course_deg, "a finite course [deg]")
+    d = np.asarray(wave_from_deg, dtype=float).ravel()
+    h = np.asarray(hs_m, dtype=float).ravel()
+    ok = np.asarray(met, dtype=bool).ravel()
     keep = np.isfinite(d) & np.isfinite(h)
-    d, h, ok = d[keep], h[keep], ok[keep]
-    if d.size < 2 or np.all(h == h[0]):
+    rel = relative_heading_deg(np.where(keep, d, 0.0), float(course_deg))
+    if direction_levels_deg is not None:
+        centres = np.unique(relative_heading_deg(np.asarray(direction_levels_deg, dtype=float), float(course_deg)))
+        half = _grid_half_width(centres, b)
+        ix = _level_index(rel, centres, circular=True)
+    else:
+        k_sec = round(n_sectors)
+        centres = np.arange(k_sec) * b
+        half = 0.5 * b
+        ix = np.minimum(np.floor(np.mod(rel + half, 360.0) / b).astype(np.int64), k_sec - 1)
+    if hs_levels_m is not None:
+        levels = np.unique(np.asarray(hs_levels_m, dtype=float))
+        hs_lo = hs_hi = levels
+        iy = _level_index(np.where(keep, h, np.nan), levels, circular=False)
+        ny = levels.size
+    else:
+        hk = h[keep]
+        if hk.size < 2 or np.all(hk == hk[0]):
+            return None
+        k = _hs_bin_count(hk.size) if n_hs_bins is None else int(n_hs_bins)
+        edges = np.unique(np.quantile(hk, np.linspace(0.0, 1.0, k + 1)))
+        hs_lo, hs_hi = edges[:-1], edges[1:]
+        iy = np.full(h.size, -1, dtype=np.int64)
+        iy[keep] = _bin_index(hk, edges)
+        ny = edges.size - 1
+    use = keep & (ix >= 0) & (iy >= 0)
+    if np.count_nonzero(use) < 2:
         return None
-    lo = math.floor(float(d.min()) / bin_deg) * bin_deg
-    hi = (math.floor(float(d.max()) / bin_deg) + 1) * bin_deg
-    dir_edges = np.arange(lo, hi + 0.5 * bin_deg, bin_deg)
-    k = _hs_bin_count(d.size) if n_hs_bins is None else int(n_hs_bins)
-    hs_edges = np.unique(np.quantile(h, np.linspace(0.0, 1.0, k + 1)))
-    ix, iy = _bin_index(d, dir_edges), _bin_index(h, hs_edges)
-    shape = (hs_edges.size - 1, dir_edges.size - 1)
+    shape = (ny, centres.size)
     count = np.zeros(shape, dtype=np.int64)
     good = np.zeros(shape, dtype=np.int64)
-    np.add.at(count, (iy, ix), 1)
-    np.add.at(good, (iy, ix), ok.astype(np.int64))
-    return Operability(dir_edges, hs_edges, good, count, int(np.count_nonzero(~keep)))
+    np.add.at(count, (iy[use], ix[use]), 1)
+    np.add.at(good, (iy[use], ix[use]), ok[use].astype(np.int64))
+    return Operability(float(course_deg) % 360.0, centres.astype(float), float(half), direction_levels_deg is not None,
+                       np.asarray(hs_lo, dtype=float), np.asarray(hs_hi, dtype=float), hs_levels_m is not None,
+                       good, count, int(np.count_nonzero(~use)))  # fmt: skip
 
 
-def _operability_section(metrics: pd.DataFrame, reqs: list[Requirement]) -> str:
+# -- the colour scale -------------------------------------------------------
+
+
+def share_fill(share: float) -> str:
+    """Fill colour of a share in [0, 1] on the operability scale (:data:`SHARE_SCALE`).
+
+    A sequential scale from pale cream (0) through green and teal to deep
+    blue (1), linear between the stops in sRGB. Its CIE L* falls steadily
+    from stop to stop, so the order of the colours reads from lightness
+    alone, also for readers with a colour-vision deficiency or on a grey
+    print (the advice of Crameri, Shephard & Heron, "The misuse of colour in
+    science communication", Nature Communications 11, 5444, 2020).
+
+    Examples
+    --------
+    >>> share_fill(0.0), share_fill(1.0)
+    ('#fbf4dc', '#1f2a5c')
+    """
+    s = min(max(float(share), 0.0), 1.0) * (len(SHARE_SCALE) - 1)
+    i = min(int(s), len(SHARE_SCALE) - 2)
+    f = s - i
+    a = [int(SHARE_SCALE[i][j : j + 2], 16) for j in (1, 3, 5)]
+    c = [int(SHARE_SCALE[i + 1][j : j + 2], 16) for j in (1, 3, 5)]
+    return "#" + "".join(f"{round(x + (y - x) * f):02x}" for x, y in zip(a, c, strict=True))
+
+
+def _ink(share: float) -> str:
+    """Text colour on a share's fill: white on the darker half of the scale."""
+    return "#ffffff" if share >= 0.6 else "#222222"
+
+
+def _deg(v: float) -> str:
+    return f"{round(v, 1):g}°"
+
+
+def _heading_word(beta: float) -> str:
+    """Words for a relative heading (sector centres within 22.5 deg of the named headings)."""
+    b = beta % 360.0
+    for centre, word in ((0.0, "following"), (90.0, "beam, from port"), (180.0, "head"),
+                         (270.0, "beam, from starboard"), (360.0, "following")):  # fmt: skip
+        if abs(b - centre) < 22.5:
+            return word
+    return "quartering" if (b < 90.0 or b > 270.0) else "bow"
+
+
+def _hs_text(op: Operability, j: int) -> str:
+    if op.hs_grid:
+        return f"Hs {op.hs_lo_m[j]:g} m"
+    last = j == op.hs_lo_m.size - 1
+    return f"Hs {op.hs_lo_m[j]:.3g}–{op.hs_hi_m[j]:.3g} m{'' if last else ' (excl.)'}"
+
+
+def _uid(*parts: object) -> str:
+    h = hashlib.sha1()
+    for p in parts:
+        h.update(np.asarray(p).tobytes() if isinstance(p, np.ndarray) else repr(p).encode())
+    return "op" + h.hexdigest()[:12]
+
+
+def _polar(cx: float, cy: float, r: float, phi_deg: float) -> tuple[float, float]:
+    """Screen point at ``r`` px from the centre, ``phi`` clockwise from straight up."""
+    p = math.radians(phi_deg)
+    return cx + r * math.sin(p), cy - r * math.cos(p)
+
+
+def operability_polar_chart(op: Operability, *, min_count: int = MIN_CELL_TRIALS, title: str = "",
+                            required: float | None = None, size: int = 460) -> Svg:  # fmt: skip
+    """Polar chart of an :class:`Operability`: sectors of relative heading x rings of Hs.
+
+    The craft sits at the centre with its bow up. Each sector is drawn on the
+    side the waves come from, so head seas (180) are at the top, following
+    seas (0) at the bottom, waves from port (90) on the left and from
+    starboard (270) on the right; the rings go from the lowest Hs (inside)
+    to the highest (outside). A cell's colour is the share of its trials that
+    met the requirement (:func:`share_fill`); cells with fewer than
+    ``min_count`` trials are hatched, cells without a trial left white.
+
+    Parameters
+    ----------
+    op : Operability
+    min_count : int
+        Cells with fewer trials are hatched.
+    title : str
+    required : float, optional
+        The required probability, marked on the colour legend.
+    size : int
+        Width [px] (the height adds the legend).
+
+    Returns
+    -------
+    Svg
+        Each cell is ``<path class="sector">`` with ``data-heading``
+        (centre), ``data-h0``, ``data-h1`` (sector edges, relative heading
+        [deg]), ``data-hs-lo``, ``data-hs-hi``, ``data-met``, ``data-count``
+        and ``data-few``, and a ``<title>`` that says the same in words.
+
+    Examples
+    --------
+    >>> op = operability([0.0, 0.0, 180.0], [1.0, 1.0, 1.0], [True, False, True], course_deg=0.0,
+    ...                  direction_levels_deg=[0.0, 180.0], hs_levels_m=[1.0])
+    >>> svg = operability_polar_chart(op)
+    >>> svg.count('class="sector"'), svg.count('data-few="1"')
+    (2, 2)
+    """
+    if not (isinstance(size, (int, np.integer)) and size >= 240):
+        raise ParameterError("size", size, "an integer >= 240 [px]")
+    ny = op.count.shape[0]
+    top = 34 if title else 12
+    r_out = 0.5 * size - 58
+    r_in = 0.16 * r_out
+    cx, cy = 0.5 * size, top + 30 + r_out
+    legend_y = cy + r_out + 58
+    height = int(legend_y + 58)
+    hatch = _uid("hatch", op.count, op.met, op.heading_deg, op.hs_lo_m, title)
+    out = [
+        f'<svg xmlns="http://www.w3.org/2000/svg" width="{size}" height="{height}" viewBox="0 0 {size} {height}" '
+        'font-family="sans-serif" font-size="11" class="operability-polar">',
+        f'<defs><pattern id="{hatch}" width="6" height="6" patternUnits="userSpaceOnUse" '
+        'patternTransform="rotate(45)"><rect width="6" height="6" fill="#efefe9"/>'
+        '<line x1="0" y1="0" x2="0" y2="6" stroke="#b5b5ad" stroke-width="2"/></pattern></defs>',
+        f'<circle cx="{cx:.1f}" cy="{cy:.1f}" r="{r_out:.1f}" fill="#fbfbf8" stroke="#999"/>',
+    ]
+    if title:
+        out.append(f'<text x="8" y="18" font-size="13" font-weight="bold">{escape(title)}</text>')
+    radii = [r_in + (r_out - r_in) * j / ny for j in range(ny + 1)]
+    h = op.half_width_deg
+    large = 1 if 2.0 * h > 180.0 else 0
+    for i, beta in enumerate(op.heading_deg):
+        a0, a1 = beta + 180.0 - h, beta + 180.0 + h  # screen angles: the side the waves come from
+        for j in range(ny):
+            ra, rb = radii[j], radii[j + 1]
+            p1, p2 = _polar(cx, cy, rb, a0), _polar(cx, cy, rb, a1)
+            p3, p4 = _polar(cx, cy, ra, a1), _polar(cx, cy, ra, a0)
+            path = (f"M{p1[0]:.2f},{p1[1]:.2f} A{rb:.2f},{rb:.2f} 0 {large} 1 {p2[0]:.2f},{p2[1]:.2f} "
+                    f"L{p3[0]:.2f},{p3[1]:.2f} A{ra:.2f},{ra:.2f} 0 {large} 0 {p4[0]:.2f},{p4[1]:.2f} Z")  # fmt: skip
+            c, m = int(op.count[j, i]), int(op.met[j, i])
+            few = c < min_count
+            fill = "#ffffff" if c == 0 else (f"url(#{hatch})" if few else share_fill(m / c))
+            what = (f"relative heading {_deg(float(beta))} ({_heading_word(float(beta))}), {_hs_text(op, j)}: "
+                    + ("no trials" if c == 0 else f"{m} of {c} met ({m / c:.2f})")
+                    + (" - too few trials" if 0 < c < min_count else ""))  # fmt: skip
+            out.append(
+                f'<path class="sector" d="{path}" fill="{fill}" stroke="#ffffff" stroke-width="1.2" '
+                f'data-heading="{float(beta)!r}" data-h0="{float(beta - h)!r}" data-h1="{float(beta + h)!r}" '
+                f'data-hs-lo="{float(op.hs_lo_m[j])!r}" data-hs-hi="{float(op.hs_hi_m[j])!r}" data-met="{m}" '
+                f'data-count="{c}" data-few="{int(few)}"><title>{escape(what)}</title></path>'
+            )
+    for r in radii:  # ring outlines
+        out.append(f'<circle cx="{cx:.1f}" cy="{cy:.1f}" r="{r:.2f}" fill="none" stroke="#d4d4cc" stroke-width="0.6"/>')
+    # the craft: a hull outline pointing up (bow up), with the course
+    s = r_in * 0.75
+    out.append(f'<path d="M{cx:.1f},{cy - s:.1f} L{cx + 0.38 * s:.1f},{cy + 0.1 * s:.1f} '
+               f'L{cx + 0.3 * s:.1f},{cy + 0.75 * s:.1f} L{cx - 0.3 * s:.1f},{cy + 0.75 * s:.1f} '
+               f'L{cx - 0.38 * s:.1f},{cy + 0.1 * s:.1f} Z" fill="#4a4a4a"><title>the craft, bow up, on course '
+               f'{op.course_deg:03.0f}°</title></path>')  # fmt: skip
+    # heading labels around the rim: every sector centre (grid) or every 30 deg
+    marks = op.heading_deg if op.heading_grid else np.arange(0.0, 360.0, 30.0)
+    for beta in marks:
+        x, y = _polar(cx, cy, r_out + 12, float(beta) + 180.0)
+        anchor = "middle" if abs(x - cx) < 8 else ("start" if x > cx else "end")
+        out.append(f'<text x="{x:.1f}" y="{y + 4:.1f}" text-anchor="{anchor}" fill="#333">{_deg(float(beta))}</text>')
+    for beta, word in ((180.0, "head seas"), (0.0, "following seas")):
+        x, y = _polar(cx, cy, r_out + 27, beta + 180.0)
+        out.append(f'<text x="{x:.1f}" y="{y + 4:.1f}" text-anchor="middle" font-style="italic" fill="#555">{word}'
+                   "</text>")  # fmt: skip
+    out.append(f'<text x="{cx - r_out - 4:.1f}" y="{cy + r_out - 4:.1f}" text-anchor="middle" font-style="italic" '
+               'fill="#555">from port</text>')  # fmt: skip
+    out.append(f'<text x="{cx + r_out + 4:.1f}" y="{cy + r_out - 4:.1f}" text-anchor="middle" font-style="italic" '
+               'fill="#555">from starboard</text>')  # fmt: skip
+    # Hs of the rings, along the line to the lower right
+    for j in range(ny):
+        x, y = _polar(cx, cy, 0.5 * (radii[j] + radii[j + 1]), 135.0)
+        label = f"{op.hs_lo_m[j]:g}" if op.hs_grid else f"{op.hs_lo_m[j]:.3g}–{op.hs_hi_m[j]:.3g}"
+        out.append(f'<text x="{x:.1f}" y="{y + 4:.1f}" text-anchor="middle" font-size="10" fill="#111" '
+                   f'stroke="#ffffff" stroke-width="2.5" paint-order="stroke">{label}</text>')  # fmt: skip
+    out.append(f'<text x="{size - 8}" y="{top + 10}" text-anchor="end" fill="#555">rings: Hs [m], '
+               "lowest inside</text>")  # fmt: skip
+    # legend: the colour scale in ten steps, the required probability, hatched and empty cells
+    x0, w = 16.0, min(260.0, size - 200.0)
+    out.append(f'<text x="{x0:.1f}" y="{legend_y - 8:.1f}">share of trials meeting the requirement</text>')
+    for k in range(10):
+        out.append(f'<rect x="{x0 + w * k / 10:.2f}" y="{legend_y:.1f}" width="{w / 10 + 0.3:.2f}" height="12" '
+                   f'fill="{share_fill((k + 0.5) / 10)}"/>')  # fmt: skip
+    out.append(f'<rect x="{x0:.1f}" y="{legend_y:.1f}" width="{w:.1f}" height="12" fill="none" stroke="#999"/>')
+    for v in (0.0, 0.5, 1.0):
+        out.append(f'<text x="{x0 + w * v:.1f}" y="{legend_y + 24:.1f}" text-anchor="middle">{v:g}</text>')
+    if required is not None and math.isfinite(required):
+        X = x0 + w * min(max(required, 0.0), 1.0)
+        out.append(f'<line class="required" x1="{X:.1f}" y1="{legend_y - 3:.1f}" x2="{X:.1f}" y2="{legend_y + 15:.1f}" '
+                   f'stroke="#c0392b" stroke-width="2"/><text x="{X:.1f}" y="{legend_y + 36:.1f}" '
+                   f'text-anchor="middle" fill="#c0392b">required {required:g}</text>')  # fmt: skip
+    X = x0 + w + 18
+    out.append(f'<rect x="{X:.1f}" y="{legend_y:.1f}" width="14" height="12" fill="url(#{hatch})" stroke="#999"/>'
+               f'<text x="{X + 18:.1f}" y="{legend_y + 10:.1f}">fewer than {int(min_count)} trials</text>')
+    out.append(f'<rect x="{X:.1f}" y="{legend_y + 18:.1f}" width="14" height="12" fill="#ffffff" stroke="#999"/>'
+               f'<text x="{X + 18:.1f}" y="{legend_y + 28:.1f}">no trials</text>')
+    out.append("</svg>")
+    return Svg("\n".join(out))
+
+
+def operability_table(op: Operability, *, min_count: int = MIN_CELL_TRIALS, requirement: str = "") -> str:
+    """The matrix of an :class:`Operability` as an HTML table: Hs rows x relative-heading columns.
+
+    Each cell shows the share that met the requirement and ``met/count``,
+    coloured as in :func:`operability_polar_chart`; cells with fewer than
+    ``min_count`` trials have class ``few`` (hatched by :data:`STUDY_CSS`)
+    and say "too few". Columns without a single trial (drawn directions
+    only) are left out.
+
+    Returns
+    -------
+    str
+        ``<table class='operability'>``; each cell ``<td>`` has class
+        ``cell`` and the attributes ``data-heading``, ``data-hs-lo``,
+        ``data-hs-hi``, ``data-met``, ``data-count`` and ``data-few``.
+    """
+    cols = [i for i in range(op.heading_deg.size) if op.heading_grid or op.count[:, i].any()]
+    head = "".join(f"<th class='num'>{_deg(float(op.heading_deg[i]))}<br><small>"
+                   f"{escape(_heading_word(float(op.heading_deg[i])))}</small></th>" for i in cols)  # fmt: skip
+    rows = []
+    for j in range(op.count.shape[0]):
+        cells = []
+        for i in cols:
+            c, m = int(op.count[j, i]), int(op.met[j, i])
+            few = c < min_count
+            attrs = (f"data-heading=\"{float(op.heading_deg[i])!r}\" data-hs-lo=\"{float(op.hs_lo_m[j])!r}\" "
+                     f"data-hs-hi=\"{float(op.hs_hi_m[j])!r}\" data-met='{m}' data-count='{c}' data-few='{int(few)}'")
+            if c == 0:
+                cells.append(f"<td class='cell few empty' {attrs}>–<br><small>no trials</small></td>")
+            elif few:
+                cells.append(f"<td class='cell few' {attrs}>({m / c:.2f})<br><small>{m}/{c}, too few</small></td>")
+            else:
+                sh = m / c
+                cells.append(f"<td class='cell' {attrs} style='background:{share_fill(sh)};color:{_ink(sh)}'>"
+                             f"<b>{sh:.2f}</b><br><small>{m}/{c}</small></td>")  # fmt: skip
+        rows.append(f"<tr><th>{escape(_hs_text(op, j))}</th>{''.join(cells)}</tr>")
+    return (f"<div class='scroll'><table class='operability' data-requirement=\"{escape(requirement)}\">"
+            f"<tr><th>Hs \\ relative heading</th>{head}</tr>{''.join(rows)}</table></div>")  # fmt: skip
+
+
+def _grid_levels(spec: Any) -> tuple[Sequence[float] | None, Sequence[float] | None]:
+    """The grid levels of the spec's wave direction and Hs (None for a field that is not a grid axis)."""
+    sea = getattr(spec, "sea", None)
+    spreading = getattr(sea, "spreading", None)
+    d = getattr(spreading, "mean_dir_deg", None)
+    h = getattr(sea, "hs_m", None)
+    return (tuple(d.levels) if isinstance(d, Grid) else None, tuple(h.levels) if isinstance(h, Grid) else None)
+
+
+def _operability_section(metrics: pd.DataFrame, reqs: list[Requirement], spec: Any) -> str:
     if DIRECTION_COLUMN not in metrics or HS_COLUMN not in metrics or not reqs:
         return ""
+    mission = getattr(spec, "mission", None)
+    if mission is None:
+        return ""  # without the spec's route the course, and so the relative heading, is unknown
+    route = route_course(mission.waypoints())
+    dir_levels, hs_levels = _grid_levels(spec)
     d = pd.to_numeric(metrics[DIRECTION_COLUMN], errors="coerce").to_numpy(dtype=float)
     h = pd.to_numeric(metrics[HS_COLUMN], errors="coerce").to_numpy(dtype=float)
     figs = []
-    left_out = 0
+    op = None
     for req in reqs:
         if req.metric not in metrics:
             continue
         values = pd.to_numeric(metrics[req.metric], errors="coerce").to_numpy(dtype=float)
-        op = operability(d, h, meets(values, req.comparator, req.threshold))
+        op = operability(d, h, meets(values, req.comparator, req.threshold), course_deg=route.course_deg,
+                         direction_levels_deg=dir_levels, hs_levels_m=hs_levels)  # fmt: skip
         if op is None:
             continue
-        left_out = op.n_left_out
-        svg = share_matrix_chart(op.dir_edges, op.hs_edges, op.met, op.count, min_count=MIN_CELL_TRIALS,
-                                 title=f"{req.name}: share meeting {req.text()}",
-                                 xlabel="drawn mean wave direction [deg] (sea.spreading.mean_dir_deg)",
-                                 ylabel="drawn Hs [m] (sea.hs_m)")  # fmt: skip
-        need = f" The requirement asks for {cell_number(req.probability, 3)}." if math.isfinite(req.probability) else ""
+        need = math.isfinite(req.probability)
+        svg = operability_polar_chart(op, title=f"{req.name}: share meeting {req.text()}",
+                                      required=req.probability if need else None)  # fmt: skip
         cap = (
-            f"Share of the trials in each cell that met {req.text()} (a trial without a value counts as not met), "
-            f"and the number of trials in the cell; hatched: fewer than {MIN_CELL_TRIALS} trials.{need}"
+            f"Share of the trials in each cell that met {req.text()} (a trial without a value counts as not met), by "
+            "relative wave heading (sectors, drawn on the side the waves come from with the bow up: 180° head seas "
+            "at the top, 0° following seas at the bottom, 90° beam seas from port, 270° from starboard) and Hs "
+            f"(rings, lowest inside); hatched: fewer than {MIN_CELL_TRIALS} trials."
+            + (f" The requirement asks for {cell_number(req.probability, 3)}." if need else "")
         )
-        figs.append(f'<figure data-requirement="{escape(req.name)}">{svg}'
-                    f"<figcaption>{escape(cap)}</figcaption></figure>")
-    if not figs:
+        figs.append(f'<figure data-requirement="{escape(req.name)}">{svg}<figcaption>{escape(cap)}</figcaption>'
+                    f"</figure>{operability_table(op, requirement=req.name)}")  # fmt: skip
+    if not figs or op is None:
         return ""
+    cols = (
+        f"one sector per level of the grid on the wave direction ({len(dir_levels)} levels), each trial exactly on "
+        "its sector's heading" if op.heading_grid
+        else f"{HEADING_BIN_DEG:g}-degree sectors of the relative heading centred on multiples of {HEADING_BIN_DEG:g}°"
+    )  # fmt: skip
+    rows = (
+        f"one ring per level of the grid on Hs ({len(hs_levels)} levels)" if op.hs_grid
+        else "bins of the drawn Hs between its quantiles, so each ring holds about the same number of trials"
+    )  # fmt: skip
     note = (
-        f"Columns: {DIRECTION_BIN_DEG:g}-degree bins of the drawn mean wave direction (the direction of the sea "
-        "state's spreading function, not relative to the craft's heading, which is not recorded per trial). Rows: "
-        "bins of the drawn Hs between its quantiles, so each row holds about the same number of trials. The cells "
-        "show only the conditions the trials happened to draw; a cell's share from a few trials is uncertain."
+        "Relative wave heading = direction the waves travel toward − the craft's course, 0–360°: 180° head seas, "
+        "0° following seas, 90° and 270° beam seas (waves from port and from starboard); the encounter angle of "
+        "Fossen (2021), Handbook of Marine Craft Hydrodynamics and Motion Control, where the encounter frequency "
+        "is ω − k U cos β. The direction is the drawn mean wave direction (sea.spreading.mean_dir_deg, where the "
+        f"waves come from); the course is {route.text()}. Sectors: {cols}. Rings: {rows}. The cells show only "
+        "the conditions the trials ran; a share from a few trials is uncertain."
     )
-    if left_out:
-        note += f" {left_out} trial{'s' if left_out != 1 else ''} without a drawn direction or Hs left out."
+    if op.n_left_out:
+        note += f" {op.n_left_out} trial{'s' if op.n_left_out != 1 else ''} without a drawn direction or Hs left out."
     return (
         '<section id="operability"><h2>Operability</h2><div class="figs">' + "".join(figs) + "</div>"
         f"<p class='note'>{escape(note)}</p></section>"
@@ -539,15 +1055,16 @@ def study_sections(metrics: pd.DataFrame, spec: Any, verdicts: Sequence[dict[str
         ``(anchor id, link text, section HTML)`` in page order, only for the
         sections with something to show: "What drives the results" needs
         drawn inputs and requirements, "Operability" needs a drawn wave
-        direction and Hs, "Closest to failing" needs a requirement whose
-        metric is in the table.
+        direction and Hs and the spec (its route gives the course the
+        headings are relative to), "Closest to failing" needs a requirement
+        whose metric is in the table.
     """
     reqs = requirements_of(spec, verdicts)
     out = []
     drivers = _drivers_section(metrics, reqs)
     if drivers:
         out.append(("drivers", "What drives the results", drivers))
-    oper = _operability_section(metrics, reqs)
+    oper = _operability_section(metrics, reqs, spec)
     if oper:
         out.append(("operability", "Operability", oper))
     closest = _closest_section(metrics, reqs)
