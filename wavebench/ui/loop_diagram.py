@@ -142,7 +142,7 @@ def _fmt(value: Any) -> str:
     if isinstance(value, (int, float)):
         return f"{value:g}"
     if isinstance(value, Mapping) and len(value) == 1:
-        (name, args), = value.items()
+        ((name, args),) = value.items()
         if isinstance(args, Mapping):
             inner = ", ".join(f"{k} {_fmt(v)}" for k, v in args.items())
         elif isinstance(args, (list, tuple)):
@@ -245,8 +245,13 @@ def stack_roles(data: Mapping[str, Any]) -> list[RoleFill]:
     cur = data.get("current")
     if isinstance(cur, Mapping):
         detail = f"{_fmt(cur.get('speed_mps'))} m/s setting {_fmt(cur.get('set_deg'))} deg"
-        add("current", "slowly varying current" if cur.get("variation") else "uniform current", detail, "used",
-            "varying current" if cur.get("variation") else "uniform current")
+        add(
+            "current",
+            "slowly varying current" if cur.get("variation") else "uniform current",
+            detail,
+            "used",
+            "varying current" if cur.get("variation") else "uniform current",
+        )
     else:
         add("current", "no current", "no [current] table", "absent")
     wind = data.get("wind")
@@ -254,8 +259,13 @@ def stack_roles(data: Mapping[str, Any]) -> list[RoleFill]:
         gusts = wind.get("gust_spectrum", "npd")
         detail = f"{_fmt(wind.get('speed_mps'))} m/s from {_fmt(wind.get('direction_from_deg'))} deg"
         steady = gusts == "none"
-        add("wind", "steady wind" if steady else f"gusting wind ({gusts} spectrum)", detail, "used",
-            "steady wind" if steady else "gusting wind")
+        add(
+            "wind",
+            "steady wind" if steady else f"gusting wind ({gusts} spectrum)",
+            detail,
+            "used",
+            "steady wind" if steady else "gusting wind",
+        )
     else:
         add("wind", "no wind", "no [wind] table", "absent")
     bed = data.get("seabed")
@@ -277,15 +287,25 @@ def stack_roles(data: Mapping[str, Any]) -> list[RoleFill]:
     else:
         name = craft.get("name", "unnamed")
         hull = craft.get("hull") or {}
-        add("craft", f"{name} (written in the spec)", f"hull length {_fmt(hull.get('length_m', '?'))} m", "used",
-            str(name))
+        add(
+            "craft",
+            f"{name} (written in the spec)",
+            f"hull length {_fmt(hull.get('length_m', '?'))} m",
+            "used",
+            str(name),
+        )
 
     fitted = _sensors(data)
     reads = NAVIGATOR_READS.get(nav, frozenset())
     missing = {k for g in unmet_needs(data) for k in g}
     names = ", ".join(f"{name} ({kind})" for kind, name in fitted.items()) or "none fitted"
-    add("sensors", names, f"{len(fitted)} of {len(SENSOR_KINDS)} kinds", "used" if fitted else "absent",
-        f"{len(fitted)} fitted")
+    add(
+        "sensors",
+        names,
+        f"{len(fitted)} of {len(SENSOR_KINDS)} kinds",
+        "used" if fitted else "absent",
+        f"{len(fitted)} fitted",
+    )
     needs = NAVIGATOR_NEEDS.get(nav)
     if needs is None:
         add("navigator", nav, f"unknown navigator (one of {', '.join(NAVIGATORS)})", "missing")
@@ -298,7 +318,9 @@ def stack_roles(data: Mapping[str, Any]) -> list[RoleFill]:
             add("navigator", nav, NAVIGATOR_LABELS[nav], "used")
     guide = (data.get("stack") or {}).get("guide") or {}
     gkind = str(guide.get("kind", "los"))
-    gdetail = f"lookahead {_fmt(guide['lookahead_m'])} m" if "lookahead_m" in guide else "lookahead from the hull length"
+    gdetail = (
+        f"lookahead {_fmt(guide['lookahead_m'])} m" if "lookahead_m" in guide else "lookahead from the hull length"
+    )
     add("guide", gkind, f"{_GUIDE_LABELS.get(gkind, gkind)}; {gdetail}", "used")
     pilot = (data.get("stack") or {}).get("pilot") or {}
     pkind = str(pilot.get("kind", "pid"))
@@ -471,16 +493,42 @@ def loop_layout(data: Mapping[str, Any]) -> dict[str, Any]:
              "true state", (grp_x + grp_w + 8.0, 20.0))  # fmt: skip
     # the loop closes through the autonomy stack
     gx = guide["x"] + guide["w"] / 2
-    edge("navigator", "guide", "used", [[gx, navigator["y"] + navigator["h"]], [gx, guide["y"]]],
-         "estimate", (gx + 5.0, (navigator["y"] + navigator["h"] + guide["y"]) / 2))
+    edge(
+        "navigator",
+        "guide",
+        "used",
+        [[gx, navigator["y"] + navigator["h"]], [gx, guide["y"]]],
+        "estimate",
+        (gx + 5.0, (navigator["y"] + navigator["h"] + guide["y"]) / 2),
+    )
     by = bottom_y + bottom_h / 2
-    edge("guide", "pilot", "used", [[guide["x"], by], [pilot["x"] + pilot["w"], by]],
-         "setpoints", ((guide["x"] + pilot["x"] + pilot["w"]) / 2, by - 5.0), "middle")
-    edge("pilot", "actuators", "used", [[pilot["x"], by], [actuators["x"] + actuators["w"], by]],
-         "commands", ((pilot["x"] + actuators["x"] + actuators["w"]) / 2, by - 5.0), "middle")
+    edge(
+        "guide",
+        "pilot",
+        "used",
+        [[guide["x"], by], [pilot["x"] + pilot["w"], by]],
+        "setpoints",
+        ((guide["x"] + pilot["x"] + pilot["w"]) / 2, by - 5.0),
+        "middle",
+    )
+    edge(
+        "pilot",
+        "actuators",
+        "used",
+        [[pilot["x"], by], [actuators["x"] + actuators["w"], by]],
+        "commands",
+        ((pilot["x"] + actuators["x"] + actuators["w"]) / 2, by - 5.0),
+        "middle",
+    )
     ax = actuators["x"] + actuators["w"] / 2
-    edge("actuators", "craft", "used" if rows["actuators"]["state"] == "used" else "missing",
-         [[ax, actuators["y"]], [ax, craft["y"] + craft["h"]]], "forces", (ax + 5.0, craft["y"] + craft["h"] + 22.0))
+    edge(
+        "actuators",
+        "craft",
+        "used" if rows["actuators"]["state"] == "used" else "missing",
+        [[ax, actuators["y"]], [ax, craft["y"] + craft["h"]]],
+        "forces",
+        (ax + 5.0, craft["y"] + craft["h"] + 22.0),
+    )
 
     texts = [
         {"x": env_x, "y": 22.0, "text": "surroundings", "anchor": "start"},

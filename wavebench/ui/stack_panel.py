@@ -335,7 +335,7 @@ class StackPanel(Twinned, traitlets.HasTraits):
     # -- changes ----------------------------------------------------------------------
 
     def choose(self, role: str, value: str) -> bool:
-        """Fill ``role`` (``"craft"``, ``"navigator"``, ``"guide"`` or ``"pilot"``) with ``value``, as its dropdown would.
+        """Fill ``role`` (``"craft"``, ``"navigator"``, ``"guide"``, ``"pilot"``) with ``value`` as its dropdown does.
 
         Returns
         -------
@@ -477,7 +477,7 @@ class StackPanel(Twinned, traitlets.HasTraits):
                 button.description, button.button_style = "add", "warning" if kind in needed else ""
                 button.tooltip = f"fit a {KIND_LABELS[kind]} sensor with default settings"
                 status.value = (f"<span style='color:{_STYLES['missing']['text']}'>needed by {escape(nav)}</span>"
-                                if kind in needed else f"<span style='color:#8a8a82'>not fitted</span>")  # fmt: skip
+                                if kind in needed else "<span style='color:#8a8a82'>not fitted</span>")  # fmt: skip
         self.message_box.value = self._messages_html()
         self.diagram.layout = loop_layout(d)
         self.roles_table.value = self._table_html()
