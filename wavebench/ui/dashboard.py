@@ -42,11 +42,11 @@ from ..report.campaign import MAIN_METRICS, nan_percentiles
 from ..report.charts import _Axes, band_chart, histogram_chart, histogram_counts, share_matrix_chart, signed_bar_chart
 from ..report.html import cell_number, escape
 from ..report.navigation import NAV_METRICS
-from ..report.svg import PALETTE, Series, Svg, line_chart
 from ..report.study import DIRECTION_COLUMN, HS_COLUMN, MIN_CELL_TRIALS, Requirement, meets, operability
+from ..report.svg import PALETTE, Series, Svg, line_chart
 from .twin import Twinned
 
-__all__ = ["BAND_PERCENTILES", "MAX_SAMPLE_TRIALS", "CampaignDashboard", "Band", "ecdf", "scatter_chart"]
+__all__ = ["BAND_PERCENTILES", "MAX_SAMPLE_TRIALS", "Band", "CampaignDashboard", "ecdf", "scatter_chart"]
 
 FloatArray = NDArray[np.float64]
 
@@ -476,8 +476,9 @@ class CampaignDashboard(Twinned):
             unit = f" {escape(v.get('unit') or '')}" if v.get("unit") else ""
             word = str(v.get("verdict", "?"))
             style = _VERDICT_STYLE.get(word, "background:#ddd;color:#222")
-            cond = (f"<code>{escape(v.get('metric', '?'))}</code> {_SYMBOL.get(str(v.get('comparator')), '?')} "
-                    f"{_num(v.get('threshold'), 4)}{unit} with probability ≥ {_num(v.get('probability'), 4)}")  # fmt: skip
+            symbol = _SYMBOL.get(str(v.get("comparator")), "?")
+            cond = (f"<code>{escape(v.get('metric', '?'))}</code> {symbol} {_num(v.get('threshold'), 4)}{unit} "
+                    f"with probability ≥ {_num(v.get('probability'), 4)}")  # fmt: skip
             failed = f" ({escape(v.get('n_failed'))} without a value)" if v.get("n_failed") else ""
             rows.append(
                 f"<tr class='verdict-row' data-requirement=\"{escape(v.get('name', '?'))}\" "
@@ -673,7 +674,10 @@ class CampaignDashboard(Twinned):
         self._update_sensitivity(ycol)
 
     def sensitivity(self, metric: str) -> pd.DataFrame:
-        """The drawn inputs ranked by Spearman rho with ``metric`` (:func:`~wavebench.analysis.sensitivity.rank_sensitivity`)."""
+        """The drawn inputs ranked by Spearman rho with ``metric``.
+
+        See :func:`~wavebench.analysis.sensitivity.rank_sensitivity`.
+        """
         from ..analysis.sensitivity import rank_sensitivity
 
         return rank_sensitivity(self.metrics, metrics=[metric], parameters=self.input_names())

@@ -351,8 +351,9 @@ class TrialPlayer(Twinned):
                                             colors=[_TRUE_COLOR], stroke_width=1.6, labels=["true track"])  # fmt: skip
         marks += [self.marks["route"], self.marks["true_track"]]
         if self.has_navigator:
-            self.marks["nav_track"] = bq.Lines(x=self.signals["nav_east_m"], y=self.signals["nav_north_m"], scales=sc,
-                                               colors=[_NAV_COLOR], stroke_width=1.2, labels=["estimated track"])  # fmt: skip
+            self.marks["nav_track"] = bq.Lines(x=self.signals["nav_east_m"], y=self.signals["nav_north_m"],
+                                               scales=sc, colors=[_NAV_COLOR], stroke_width=1.2,
+                                               labels=["estimated track"])  # fmt: skip
             marks.append(self.marks["nav_track"])
         on, oe = self.craft_outline(0)
         self.marks["craft"] = bq.Lines(x=oe, y=on, scales=sc, colors=[_CRAFT_COLOR], fill="inside",
