@@ -179,3 +179,17 @@ def test_static_twin_holds_svg_and_the_metrics_and_no_script(player: TrialPlayer
     assert "<script" not in page.lower()
     assert "xte_p95_m" in page and f"Trial {TRIAL}" in page
     assert f"t = {player.time_s[player.last_index]:g} s" in page
+
+
+def test_follow_the_craft_centres_the_map_on_it(player: TrialPlayer) -> None:
+    xs, ys = player.map_scales
+    player.slider.value = 30
+    player.follow.value = True
+    e, n = player.signals["east_m"][30], player.signals["north_m"][30]
+    assert 0.5 * (xs.min + xs.max) == pytest.approx(e, abs=1e-9)
+    assert 0.5 * (ys.min + ys.max) == pytest.approx(n, abs=1e-9)
+    assert xs.max - xs.min == pytest.approx(ys.max - ys.min)  # square box: equal scales in a square plot
+    player.slider.value = 31  # the box moves with the craft
+    assert 0.5 * (xs.min + xs.max) == pytest.approx(player.signals["east_m"][31], abs=1e-9)
+    player.follow.value = False
+    assert (xs.min, xs.max) == player.map_box[0] and (ys.min, ys.max) == player.map_box[1]

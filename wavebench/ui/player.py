@@ -6,6 +6,7 @@
 - a map (east to the right, north up, equal scales) over the seabed depth,
   with the route, the true track, the navigator's estimated track (when a
   navigator ran) and the craft's outline at its heading at the chosen time;
+  "follow the craft" zooms the map to a box of a few hull lengths around it;
 - a time slider with a play control;
 - time plots sharing the time axis and a time cursor: cross-track error,
   heading and heading command, surge speed and speed command, the
@@ -42,7 +43,7 @@ from ..report.html import cell_number, escape
 from ..report.svg import PALETTE, Series, line_chart
 from .twin import Twinned
 
-__all__ = ["HULL_OUTLINE", "TIME_PLOTS", "TimePlot", "TrialPlayer", "depth_grid", "hull_outline"]
+__all__ = ["FOLLOW_LENGTHS", "HULL_OUTLINE", "TIME_PLOTS", "TimePlot", "TrialPlayer", "depth_grid", "hull_outline"]
 
 FloatArray = NDArray[np.float64]
 
@@ -51,6 +52,9 @@ FloatArray = NDArray[np.float64]
 HULL_OUTLINE: tuple[tuple[float, float], ...] = (
     (0.5, 0.0), (0.2, 0.5), (-0.5, 0.5), (-0.5, -0.5), (0.2, -0.5), (0.5, 0.0),
 )  # fmt: skip
+
+#: Side of the map box that follows the craft, in hull lengths.
+FOLLOW_LENGTHS = 12.0
 
 #: Cells per side of the depth raster drawn under the map.
 DEPTH_CELLS = 80
@@ -331,6 +335,7 @@ class TrialPlayer(Twinned):
         (e0, e1), (n0, n1) = self.map_box
         xs = bq.LinearScale(min=e0, max=e1)
         ys = bq.LinearScale(min=n0, max=n1)
+        self.map_scales = (xs, ys)
         marks = []
         depth_note = "no seabed in the spec"
         if self.seabed is not None:
@@ -396,6 +401,8 @@ class TrialPlayer(Twinned):
         self.play = w.Play(value=0, min=0, max=max(n - 1, 0), step=1, interval=100, description="play")
         w.jslink((self.play, "value"), (self.slider, "value"))
         self.time_label = w.Label()
+        self.follow = w.Checkbox(value=False, description="follow the craft", indent=False)
+        self.follow.observe(lambda _c: self.show(self.index), names="value")
         self.slider.observe(self._on_slider, names="value")
         notes = []
         if not self.has_navigator:
@@ -403,7 +410,7 @@ class TrialPlayer(Twinned):
         notes.append("thrust and rudder commands are not recorded; the heading and speed commands are shown")
         header = w.HTML(f"<b>{escape(self.title)}</b><br><span style='color:#555'>{escape('; '.join(notes))}.</span>")
         self.metrics_html = w.HTML(self._metrics_table())
-        controls = w.HBox([self.play, self.slider, self.time_label])
+        controls = w.HBox([self.play, self.slider, self.time_label, self.follow])
         self.widget = w.VBox([
             header, controls,
             w.HBox([self.map_figure, w.VBox(list(self.time_figures.values()))]),
@@ -428,8 +435,11 @@ class TrialPlayer(Twinned):
         t = float(self.time_s[i])
         cursors = [m for k, m in self.marks.items() if k.startswith("cursor.")]
         with contextlib.ExitStack() as stack:
-            for m in (self.marks["craft"], self.marks["craft_marker"], *cursors):
+            for m in (self.marks["craft"], self.marks["craft_marker"], *cursors, *self.map_scales):
                 stack.enter_context(m.hold_sync())
+            (e0, e1), (n0, n1) = self.follow_box(i) if self.follow.value else self.map_box
+            self.map_scales[0].min, self.map_scales[0].max = e0, e1
+            self.map_scales[1].min, self.map_scales[1].max = n0, n1
             self.marks["craft"].x, self.marks["craft"].y = oe, on
             self.marks["craft_marker"].x = self.signals["east_m"][i : i + 1]
             self.marks["craft_marker"].y = self.signals["north_m"][i : i + 1]
@@ -438,6 +448,17 @@ class TrialPlayer(Twinned):
         self.time_label.value = f"t = {t:g} s" + ("" if np.isfinite(self.signals["north_m"][i]) else " (trial ended)")
         if self.slider.value != i:
             self.slider.value = i
+
+    def follow_box(self, index: int) -> tuple[tuple[float, float], tuple[float, float]]:
+        """A square (east, north) box of :data:`FOLLOW_LENGTHS` hull lengths centred on the craft at ``index``.
+
+        The full map box when the craft has no recorded position there.
+        """
+        n, e = float(self.signals["north_m"][index]), float(self.signals["east_m"][index])
+        if not (math.isfinite(n) and math.isfinite(e)):
+            return self.map_box
+        half = 0.5 * FOLLOW_LENGTHS * self.length_m
+        return (e - half, e + half), (n - half, n + half)
 
     @property
     def time(self) -> float:
