@@ -330,3 +330,25 @@ def test_es_module_draws_the_same_elements_as_the_static_svg(tmp_path):
         assert set(d["attrs"]) == set(s["attrs"]), (d, s)
         for key, value in s["attrs"].items():
             assert _same_value(d["attrs"][key], value), (key, d["attrs"][key], value)
+
+
+def test_sensor_settings_editor_is_linked_both_ways():
+    # behaviour check: the generated controls (wavebench.ui.controls) and the panel share one valid spec
+    panel = StackPanel(load_spec(example_spec_path("brannock_bridge")))
+    assert panel.editor is None  # built when the section is opened
+    panel.settings.selected_index = 0
+    editor = panel.editor
+    if editor is None:
+        pytest.skip("wavebench.ui.controls not available")
+    assert editor.set_value("sensors.gps.rate_hz", 2.0)
+    assert dict(panel.spec.sensors)["gps"].rate_hz == 2.0
+    assert "2 Hz" in panel.sensor_status["gnss"].value
+    assert not editor.set_value("sensors.gps.rate_hz", -1.0)  # refused there, nothing changes here
+    assert dict(panel.spec.sensors)["gps"].rate_hz == 2.0
+    assert panel.remove_sensor("compass") is False  # ekf needs a heading source
+    assert panel.choose("navigator", "truth")
+    assert panel.remove_sensor("compass")
+    assert "sensors.ahrs.rate_hz" not in editor.controls
+    assert editor.spec is panel.spec
+    assert panel.add_sensor("compass")  # the removed sensor comes back as it was
+    assert "sensors.ahrs.rate_hz" in editor.controls and dict(panel.spec.sensors)["ahrs"].compass.noise_sd_deg == 1.0

@@ -232,6 +232,10 @@ class StackPanel(Twinned, traitlets.HasTraits):
         What each sensor row says (name, rate, whether the navigator reads it).
     diagram : LoopDiagram
         The loop as wired (draws :meth:`layout`).
+    settings : ipywidgets.Accordion
+        A closed section holding :meth:`sensor_editor` once opened.
+    editor : SpecEditor or None
+        The sensor settings' controls, once built.
     widget : ipywidgets.VBox
         The panel.
 
@@ -246,7 +250,7 @@ class StackPanel(Twinned, traitlets.HasTraits):
     'truth'
     """
 
-    spec = traitlets.Instance(Spec)
+    spec = traitlets.Instance(Spec, allow_none=True)
     messages = traitlets.List(traitlets.Unicode())
     notes = traitlets.List(traitlets.Unicode())
     title = "stack"
@@ -286,11 +290,15 @@ class StackPanel(Twinned, traitlets.HasTraits):
             name = widgets.HTML(f"<b>{escape(KIND_LABELS[kind])}</b>", layout=widgets.Layout(width="120px"))
             rows.append(widgets.HBox([name, button, status], layout=widgets.Layout(align_items="center")))
         self.message_box = widgets.HTML()
+        self.editor: Any = None
+        self.settings = widgets.Accordion(children=[widgets.VBox()], selected_index=None)
+        self.settings.set_title(0, "sensor settings: rates, latencies, error models, outages")
+        self.settings.observe(lambda c: c["new"] is not None and self.sensor_editor(), "selected_index")
         self.diagram = LoopDiagram()
         self.roles_table = widgets.HTML()
         choices = widgets.HBox([self.craft_choice, self.navigator_choice, self.guide_choice, self.pilot_choice],
                                layout=widgets.Layout(flex_flow="row wrap"))  # fmt: skip
-        sensors = widgets.VBox([widgets.HTML("<b>sensors</b> (one per kind)"), *rows])
+        sensors = widgets.VBox([widgets.HTML("<b>sensors</b> (one per kind)"), *rows, self.settings])
         self.widget = widgets.VBox([choices, self.message_box, sensors, self.diagram, self.roles_table])
         self.set_spec(spec)
         if on_change is not None:
@@ -313,6 +321,8 @@ class StackPanel(Twinned, traitlets.HasTraits):
         """
         if not isinstance(spec, Spec):
             raise ParameterError("spec", spec, "must be a wavebench.spec.Spec (load one with load_spec)")
+        if not self.messages and self.spec is not None and spec_hash(spec) == spec_hash(self.spec):
+            return  # already shown (e.g. echoed back by a linked editor): keep what was set aside
         self._aside = {}
         self._draft = spec_to_data(spec)
         found = check_stack(self._draft)
@@ -323,6 +333,25 @@ class StackPanel(Twinned, traitlets.HasTraits):
     def on_change(self, callback: Callable[[Spec], None]) -> None:
         """Call ``callback(spec)`` after every accepted change."""
         self.observe(lambda change: callback(change["new"]), "spec")
+
+    def sensor_editor(self) -> Any:
+        """The generated controls of the ``[sensors]`` tables, linked both ways with this panel.
+
+        Built on first use (opening the "sensor settings" section calls it)
+        from :class:`~wavebench.ui.controls.SpecEditor`; None when that
+        module is not available. An accepted edit there becomes this
+        panel's spec, and this panel's accepted changes are shown there.
+        """
+        if self.editor is None:
+            try:
+                from .controls import SpecEditor
+            except ImportError:  # the panel works without the generated controls
+                return None
+            self.editor = SpecEditor(self.spec, tables=("sensors",))
+            self.editor.on_change(self.set_spec)
+            self.observe(lambda change: self.editor.set_spec(change["new"]), "spec")
+            self.settings.children[0].children = [self.editor.widget]
+        return self.editor
 
     def roles(self) -> list[dict[str, str]]:
         """The roles table of the draft (:func:`~wavebench.ui.loop_diagram.stack_roles`)."""
