@@ -167,7 +167,9 @@ def test_a_navigator_run_shows_the_estimated_track_error_and_fix_validity(nav_st
     # the spec's scheduled outage [20, 35] s: no accepted fix inside it (sampled at 1 s, the fix at 1 Hz)
     inside = (t > 21.0) & (t < 35.0)
     assert inside.any() and np.all(fix[inside] == 0.0)
-    assert "nav_err_m" in p.static_html()
+    page = p.static_html()
+    assert "nav_err_m" in page and "estimated track" in page
+    assert 'class="depth"' not in page and "no seabed in the spec" in page
 
 
 def test_static_twin_holds_svg_and_the_metrics_and_no_script(player: TrialPlayer) -> None:
@@ -179,6 +181,10 @@ def test_static_twin_holds_svg_and_the_metrics_and_no_script(player: TrialPlayer
     assert "<script" not in page.lower()
     assert "xte_p95_m" in page and f"Trial {TRIAL}" in page
     assert f"t = {player.time_s[player.last_index]:g} s" in page
+    # the depth under the map, shaded by level, with the range of depths in the view
+    assert page.count('class="depth"') > 10
+    lo, hi = np.nanmin(player.marks["depth"].color), np.nanmax(player.marks["depth"].color)
+    assert player.depth_note == f"depth {lo:.1f} to {hi:.1f} m" and player.depth_note in page
 
 
 def test_follow_the_craft_centres_the_map_on_it(player: TrialPlayer) -> None:
