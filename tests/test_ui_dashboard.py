@@ -168,3 +168,24 @@ def test_run_feeds_the_progress_bar_per_chunk_and_gives_the_same_bits(monkeypatc
     pd.testing.assert_frame_equal(d.metrics, reference.metrics)
     assert [v["verdict"] for v in d.verdicts] == [v.verdict for v in reference.verdicts]
     assert "<svg" in d.static_html()
+
+
+def test_the_panel_state_serialises_as_jupyter_widget_state(dash: CampaignDashboard) -> None:
+    from ipywidgets.embed import embed_data
+
+    if dash.player is None:
+        dash.open_trial(int(dash.trials[0]))
+    # ipywidgets' embedding (the widget-state JSON a saved notebook holds): every model's state must serialise
+    data = embed_data(views=[dash.widget])
+    text = json.dumps(data["manager_state"])
+    models = {s["model_name"] for s in data["manager_state"]["state"].values()}
+    assert {"ScatterModel", "LinesModel", "BarsModel", "IntProgressModel", "PlayModel"} <= models
+    assert len(text) > 10_000
+
+
+def test_background_run_returns_at_once_and_fills_in(store: Path) -> None:
+    spec = _short_spec(duration_s=20.0)
+    d = CampaignDashboard.run(spec, display=False, background=True, trials=4)
+    d.wait(timeout=120)
+    assert d.error is None and len(d.metrics) == 4 and d.progress.value == 4
+    assert d.progress.bar_style == "success"
