@@ -352,3 +352,12 @@ def test_sensor_settings_editor_is_linked_both_ways():
     assert editor.spec is panel.spec
     assert panel.add_sensor("compass")  # the removed sensor comes back as it was
     assert "sensors.ahrs.rate_hz" in editor.controls and dict(panel.spec.sensors)["ahrs"].compass.noise_sd_deg == 1.0
+
+
+def test_navigator_reads_cover_its_needs():
+    # consistency of the diagram's table with the schema's NAVIGATOR_NEEDS (our own; no outside source)
+    assert set(NAVIGATOR_READS) == set(NAVIGATORS)
+    for nav, groups in NAVIGATOR_NEEDS.items():
+        for group in groups:
+            assert set(group) <= NAVIGATOR_READS[nav], (nav, group)
+        assert NAVIGATOR_READS[nav] <= set(SENSOR_KINDS)

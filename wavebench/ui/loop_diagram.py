@@ -62,6 +62,7 @@ __all__ = [
     "NAVIGATOR_READS",
     "ROLES",
     "STATES",
+    "STATE_STYLES",
     "LoopDiagram",
     "RoleFill",
     "loop_layout",
@@ -109,7 +110,7 @@ _SEA_LABELS = {"jonswap": "JONSWAP sea", "pierson_moskowitz": "Pierson-Moskowitz
 _STATUS_WORDS = {"used": "read", "idle": "not read", "absent": "not fitted", "missing": "needed"}
 
 #: Colours of each state: box fill, box outline, text, edge, dash pattern ("" for solid).
-_STYLES: dict[str, dict[str, str]] = {
+STATE_STYLES: dict[str, dict[str, str]] = {
     "used": {"fill": "#eef5f1", "stroke": "#2b6a55", "text": "#16352b", "edge": "#2b6a55", "dash": ""},
     "idle": {"fill": "#fbfcfb", "stroke": "#93a69e", "text": "#55655f", "edge": "#a9b8b2", "dash": "4 2"},
     "absent": {"fill": "#f4f3ef", "stroke": "#d2d0c8", "text": "#a7a59c", "edge": "#d8d6cf", "dash": "2 3"},
@@ -547,7 +548,7 @@ def loop_layout(data: Mapping[str, Any]) -> dict[str, Any]:
         "edges": edges,
         "texts": texts,
         "legend": legend,
-        "styles": {s: dict(v) for s, v in _STYLES.items()},
+        "styles": {s: dict(v) for s, v in STATE_STYLES.items()},
         "group_style": dict(_GROUP_STYLE),
         "font": _FONT,
     }

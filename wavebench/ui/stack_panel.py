@@ -59,10 +59,10 @@ from ..spec.tables import GuideSpec, PilotSpec
 from ..trial.setup import build_trial_setup, check_spec_against_craft
 from ..trial.wiring import check_wiring
 from .loop_diagram import (
-    _STYLES,
     KIND_LABELS,
     NAVIGATOR_LABELS,
     NAVIGATOR_READS,
+    STATE_STYLES,
     LoopDiagram,
     loop_layout,
     loop_svg,
@@ -505,14 +505,14 @@ class StackPanel(Twinned, traitlets.HasTraits):
             else:
                 button.description, button.button_style = "add", "warning" if kind in needed else ""
                 button.tooltip = f"fit a {KIND_LABELS[kind]} sensor with default settings"
-                status.value = (f"<span style='color:{_STYLES['missing']['text']}'>needed by {escape(nav)}</span>"
+                status.value = (f"<span style='color:{STATE_STYLES['missing']['text']}'>needed by {escape(nav)}</span>"
                                 if kind in needed else "<span style='color:#8a8a82'>not fitted</span>")  # fmt: skip
         self.message_box.value = self._messages_html()
         self.diagram.layout = loop_layout(d)
         self.roles_table.value = self._table_html()
 
     def _messages_html(self) -> str:
-        st = _STYLES["missing"]
+        st = STATE_STYLES["missing"]
         parts = []
         if self.messages:
             parts.append(f"<div style='border-left:4px solid {st['stroke']};background:{st['fill']};"
@@ -520,7 +520,7 @@ class StackPanel(Twinned, traitlets.HasTraits):
                          "<b>not accepted, the last valid spec is kept:</b><ul style='margin:2px 0'>"
                          + "".join(f"<li>{escape(m)}</li>" for m in self.messages) + "</ul></div>")  # fmt: skip
         else:
-            parts.append(f"<div style='color:{_STYLES['used']['text']};margin:4px 0'>the stack is wired: every "
+            parts.append(f"<div style='color:{STATE_STYLES['used']['text']};margin:4px 0'>the stack is wired: every "
                          "role is filled and the navigator has the sensors it needs</div>")  # fmt: skip
         if self.notes:
             parts.append("<div style='color:#6b5a1e;margin:2px 0'>"
@@ -530,7 +530,7 @@ class StackPanel(Twinned, traitlets.HasTraits):
     def _table_html(self) -> str:
         cells = []
         for r in stack_roles(self._draft):
-            st = _STYLES[r["state"]]
+            st = STATE_STYLES[r["state"]]
             cells.append(
                 f"<tr><th style='text-align:left;padding:2px 8px;border-left:4px solid {st['stroke']}'>"
                 f"{escape(r['role'])}</th><td style='padding:2px 8px'>{escape(r['filled_by'])}</td>"
