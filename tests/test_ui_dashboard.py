@@ -144,6 +144,7 @@ def test_static_twin_holds_the_verdicts_and_svg_charts_and_no_script(store: Path
     page = dash._repr_mimebundle_()["text/html"]
     assert TWIN_CLASS in page
     assert page.count("<svg") >= 5
+    assert 'class="operability-polar"' in page or 'class="cell"' in page  # report/study.py's operability chart
     assert "<script" not in page.lower()
     for v in stored:
         assert f'data-requirement="{v["name"]}" data-verdict="{v["verdict"]}"' in page

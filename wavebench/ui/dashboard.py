@@ -760,15 +760,26 @@ class CampaignDashboard(Twinned):
         self.open_trial(int(self._scatter_trials[int(index)]))
 
     def open_trial(self, trial: int) -> Any:
-        """Replay ``trial`` in a :class:`~wavebench.ui.player.TrialPlayer` below the charts and return it."""
+        """Replay ``trial`` in a :class:`~wavebench.ui.player.TrialPlayer` below the charts and return it.
+
+        When the trial cannot be replayed with its time series (a chunk that
+        failed as a whole), the panel says why and None is returned.
+        """
+        import ipywidgets as w
+
         from .player import TrialPlayer
 
-        if self.store_dir is not None:
-            player = TrialPlayer.from_store(self.store_dir, int(trial))
-        elif self.spec is not None:
-            player = TrialPlayer(self.spec, int(trial))
-        else:
+        if self.spec is None:
             raise ParameterError("spec", None, "the campaign's spec, to replay a trial")
+        try:
+            if self.store_dir is not None:
+                player = TrialPlayer.from_store(self.store_dir, int(trial))
+            else:
+                player = TrialPlayer(self.spec, int(trial))
+        except ParameterError as exc:  # e.g. a trial whose whole chunk failed has no time series
+            self.player = None
+            self.player_box.children = [w.HTML(f"<p>Trial {int(trial)} cannot be replayed here: {escape(exc)}</p>")]
+            return None
         self.player = player
         self.player_box.children = [player.widget]
         return player
