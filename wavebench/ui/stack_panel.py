@@ -33,7 +33,11 @@ of our choosing (:data:`DEFAULT_RATES_HZ`) moved to the nearest rate whose
 period is a whole number of control periods, and for acoustic ranging one
 invented beacon 2 m deep at the centre of the mission's waypoints. A sensor,
 terrain table, integral gain or inline craft removed by a change is kept
-aside and comes back when the change is undone.
+aside and comes back when the change is undone. A sensor's own settings
+(rate, latency, error model, outages) are edited in the "sensor settings"
+section, the generated controls of :mod:`wavebench.ui.controls` on the
+``[sensors]`` tables, built when the section is first opened and linked
+both ways with the panel (the panel works without that module).
 """
 
 from __future__ import annotations
