@@ -41,8 +41,10 @@ control keeps the field's :class:`~wavebench.core.params.Bounds` as
 
 from __future__ import annotations
 
+import contextlib
 import copy
 import dataclasses
+import functools
 import math
 import os
 import sys
@@ -54,6 +56,10 @@ from typing import Any
 import ipywidgets as widgets
 import tomli_w
 import traitlets
+from ipywidgets.widgets.widget_bool import CheckboxStyle
+from ipywidgets.widgets.widget_description import DescriptionStyle
+from ipywidgets.widgets.widget_int import SliderStyle
+from ipywidgets.widgets.widget_string import LabelStyle, TextStyle
 
 from ..core.errors import ParameterError
 from ..core.params import Bounds, Params
@@ -84,6 +90,26 @@ _MISSING = dataclasses.MISSING
 _LABEL_WIDTH = "230px"
 _ERROR_STYLE = {"text_color": "#b3261e"}
 _ABSENT = "(absent)"
+
+
+# ---------------------------------------------------------------------------
+# shared layouts and styles (a big spec has hundreds of rows: one model each, not one per widget)
+# ---------------------------------------------------------------------------
+
+_SHARED: dict[Any, widgets.Widget] = {}
+
+
+def _shared(cls: type, **kwargs: Any) -> Any:
+    """One ``Layout`` or style model per (class, settings), shared by the widgets that never change it."""
+    key = (cls, tuple(sorted(kwargs.items())))
+    model = _SHARED.get(key)
+    if model is None or model.comm is None:  # closed (e.g. Widget.close_all) -> make a new one
+        model = _SHARED[key] = cls(**kwargs)
+    return model
+
+
+def _box(width: str) -> widgets.Layout:
+    return _shared(widgets.Layout, width=width)
 
 
 # ---------------------------------------------------------------------------
@@ -144,12 +170,13 @@ def _params_class(hint: Any) -> type[Params] | None:
     return found[0] if len(found) == 1 else None
 
 
-def field_kinds(cls: type) -> list[tuple[dataclasses.Field, str, Any]]:
+@functools.cache
+def field_kinds(cls: type) -> tuple[tuple[dataclasses.Field, str, Any], ...]:
     """How each init field of a spec table or parameter class is edited.
 
     Returns
     -------
-    list of (field, kind, detail)
+    tuple of (field, kind, detail)
         ``kind`` is one of ``"number"`` (detail: :class:`Bounds`),
         ``"choice"`` (detail: the choices), ``"text"``, ``"texts"`` (detail:
         the choices), ``"flag"``, ``"literal"`` (a TOML value in a text box),
@@ -182,7 +209,7 @@ def field_kinds(cls: type) -> list[tuple[dataclasses.Field, str, Any]]:
             out.append((f, "flag", None))
         else:
             out.append((f, "literal", None))
-    return out
+    return tuple(out)
 
 
 def reachable_tables(cls: type = Spec) -> list[type]:
@@ -311,65 +338,79 @@ class FieldControl:
         tooltip = self.doc
         if self.bounds is not None:
             tooltip = f"{self.doc} ({self.bounds.describe()})".strip()
-        self.label = widgets.Label(label_text, tooltip=tooltip, layout=widgets.Layout(width=_LABEL_WIDTH))
-        self.error_label = widgets.Label("", style=_ERROR_STYLE)
-        self.value_widget = self._make_value_widget(tooltip)
-        parts: list[widgets.Widget] = [self.label]
+        self.label = widgets.Label(label_text, tooltip=tooltip, layout=_box(_LABEL_WIDTH),
+                                   style=_shared(LabelStyle))  # fmt: skip
+        self._error_label: widgets.Label | None = None
         modes = ["value"]
         if self.dist_allowed:
             modes.append("distribution")
+        if self.optional and kind == "number":
+            modes.append("absent")
+        # widgets hidden and shown by the mode need layouts of their own
+        self.value_widget = self._make_value_widget(tooltip, own_layout=len(modes) > 1)
+        parts: list[widgets.Widget] = [self.label]
+        if self.dist_allowed:
             self.dist_widget = widgets.Text(
                 placeholder="{ uniform = [1.0, 2.0] }", continuous_update=False, tooltip=tooltip,
-                layout=widgets.Layout(width="300px"),
+                layout=widgets.Layout(width="300px"), style=_shared(TextStyle),
             )  # fmt: skip
             self.dist_widget.observe(self._dist_changed, "value")
-        if self.optional and kind in ("number",):
-            modes.append("absent")
         if len(modes) > 1:
-            self.mode_widget = widgets.Dropdown(options=modes, value="value", layout=widgets.Layout(width="120px"))
+            self.mode_widget = widgets.Dropdown(options=modes, value="value", layout=_box("120px"),
+                                                style=_shared(DescriptionStyle))  # fmt: skip
             self.mode_widget.observe(self._mode_changed, "value")
             parts.append(self.mode_widget)
         parts.append(self.value_widget)
         if self.dist_widget is not None:
             parts.append(self.dist_widget)
-        parts.append(self.error_label)
-        self.widget = widgets.HBox(parts)
+        self.widget = widgets.HBox(parts, layout=_shared(widgets.Layout))
         self.show(value)
         self.value_widget.observe(self._value_changed, "value")
 
     # -- widgets ------------------------------------------------------------
 
-    def _make_value_widget(self, tooltip: str) -> widgets.Widget:
+    def _make_value_widget(self, tooltip: str, *, own_layout: bool) -> widgets.Widget:
         kind, detail = self.kind, self.detail
+
+        def lay(width: str | None = None) -> widgets.Layout:
+            if own_layout:
+                return widgets.Layout(width=width) if width else widgets.Layout()
+            return _box(width) if width else _shared(widgets.Layout)
+
+        text_style = _shared(TextStyle)
+        desc_style = _shared(DescriptionStyle)
         if kind == "number":
             b: Bounds = detail
             rng = _finite_range(b)
             if not b.finite:
                 # inf is a legal value here (e.g. deep water): typed as text, read as TOML ("inf").
-                return widgets.Text(continuous_update=False, tooltip=tooltip, layout=widgets.Layout(width="160px"))
+                return widgets.Text(continuous_update=False, tooltip=tooltip, layout=lay("160px"), style=text_style)
             if b.integer:
                 if rng is not None and rng[1] - rng[0] >= 1:
                     return widgets.IntSlider(min=math.ceil(rng[0]), max=math.floor(rng[1]), continuous_update=False,
-                                             tooltip=tooltip)  # fmt: skip
-                return widgets.IntText(tooltip=tooltip, layout=widgets.Layout(width="160px"),
+                                             tooltip=tooltip, layout=lay(),
+                                             style=_shared(SliderStyle))  # fmt: skip
+                return widgets.IntText(tooltip=tooltip, layout=lay("160px"), style=desc_style,
                                        disabled=b.ge is not None and b.ge == b.le)  # fmt: skip
             if rng is not None:
                 return widgets.FloatSlider(min=rng[0], max=rng[1], step=(rng[1] - rng[0]) / 1000.0,
-                                           readout_format=".4g", continuous_update=False, tooltip=tooltip)  # fmt: skip
-            return widgets.FloatText(tooltip=tooltip, layout=widgets.Layout(width="160px"))
+                                           readout_format=".4g", continuous_update=False, tooltip=tooltip,
+                                           layout=lay(), style=_shared(SliderStyle))  # fmt: skip
+            return widgets.FloatText(tooltip=tooltip, layout=lay("160px"), style=desc_style)
         if kind == "choice":
             options = [(c, c) for c in detail]
             if self.optional:
                 options.insert(0, (_ABSENT, ""))
-            return widgets.Dropdown(options=options, tooltip=tooltip)
+            return widgets.Dropdown(options=options, tooltip=tooltip, layout=lay(), style=desc_style)
         if kind == "texts":
-            return widgets.SelectMultiple(options=list(detail), rows=min(6, len(detail)), tooltip=tooltip)
+            return widgets.SelectMultiple(options=list(detail), rows=min(6, len(detail)), tooltip=tooltip,
+                                          layout=lay(), style=desc_style)  # fmt: skip
         if kind == "flag":
-            return widgets.Checkbox(indent=False, tooltip=tooltip)
+            return widgets.Checkbox(indent=False, tooltip=tooltip, layout=lay(), style=_shared(CheckboxStyle))
         if kind == "text":
-            return widgets.Text(continuous_update=False, tooltip=tooltip)
-        return widgets.Text(continuous_update=False, tooltip=tooltip or "a TOML value",
-                            layout=widgets.Layout(width="420px"))  # fmt: skip
+            return widgets.Text(continuous_update=False, tooltip=tooltip, layout=lay(), style=text_style)
+        return widgets.Text(continuous_update=False, tooltip=tooltip or "a TOML value", layout=lay("420px"),
+                            style=text_style)  # fmt: skip
 
     # -- showing a value ------------------------------------------------------
 
@@ -398,7 +439,8 @@ class FieldControl:
                     self.mode_widget.value = mode
                 self._layout_mode()
             elif self.kind == "choice":
-                self.value_widget.value = "" if value is None else value
+                blank = "" if self.optional else None
+                self.value_widget.value = blank if value is None else value
             elif self.kind == "texts":
                 self.value_widget.value = tuple(value or ())
             elif self.kind == "flag":
@@ -424,9 +466,18 @@ class FieldControl:
         if self.dist_widget is not None:
             self.dist_widget.layout.display = None if mode == "distribution" else "none"
 
+    @property
+    def error_label(self) -> widgets.Label:
+        """The label beside the control holding the validator's message (made on first use)."""
+        if self._error_label is None:
+            self._error_label = widgets.Label("", style=_ERROR_STYLE)
+            self.widget.children = (*self.widget.children, self._error_label)
+        return self._error_label
+
     def set_error(self, message: str) -> None:
         """Show (or clear, with ``""``) the validator's message beside the control."""
-        self.error_label.value = message
+        if message or self._error_label is not None:
+            self.error_label.value = message
 
     # -- reading the widgets ------------------------------------------------------
 
@@ -456,6 +507,21 @@ class FieldControl:
         if not text.strip():
             raise ParameterError(self.name, text, "a distribution is needed, e.g. { uniform = [1.0, 2.0] }")
         return parse_literal(text, self.name)
+
+    def read(self) -> Any:
+        """The value the widgets show, as plain data (``None`` when absent).
+
+        Raises
+        ------
+        ParameterError
+            When the text typed is not a TOML value.
+        """
+        mode = self.mode
+        if mode == "absent":
+            return None
+        if mode == "distribution":
+            return self._read_dist()
+        return self._read_value()
 
     def _emit(self, read: Callable[[], Any]) -> None:
         if self._on_change is None:
@@ -500,8 +566,19 @@ class FieldControl:
 # ---------------------------------------------------------------------------
 
 
+class _Registry:
+    """Every control and section of one tree, by dotted path (filled as sections are built)."""
+
+    def __init__(self) -> None:
+        self.controls: dict[str, FieldControl] = {}
+        self.sections: dict[str, TableSection] = {}
+
+
 class TableSection:
     """A collapsible section for one table (spec table or parameter set).
+
+    A section's rows are built when it is first opened (or when a control
+    in it is asked for), so a large spec opens quickly.
 
     Parameters
     ----------
@@ -517,15 +594,19 @@ class TableSection:
         Receives ``(control_or_section, raw)`` as for :class:`FieldControl`.
     only : collection of str, optional
         At the root, the top-level keys to show.
+    data_of : callable, optional
+        ``data_of(path)`` gives the current plain data at a path when a
+        section is built; by default read from ``data``.
 
     Attributes
     ----------
     widget : ipywidgets.Widget
-        An ``Accordion`` with one collapsed item (a ``VBox`` at the root).
+        An ``Accordion`` with one item, collapsed (a ``VBox`` at the root).
     controls : dict of str to FieldControl
-        Every field control in the section and its subsections, by dotted path.
+        Every field control in the section and its subsections, by dotted
+        path (building every subsection).
     sections : dict of str to TableSection
-        This section and every subsection, by dotted path.
+        This section and every subsection, by dotted path (building them all).
     """
 
     def __init__(
@@ -538,31 +619,49 @@ class TableSection:
         on_change: Callable[[Any, Any], None] | None = None,
         only: Any = None,
         title: str | None = None,
+        data_of: Callable[[Path], Any] | None = None,
+        registry: _Registry | None = None,
     ) -> None:
-        self.path, self.cls, self.optional = path, cls, optional
+        self.path, self.cls, self.optional, self.only = path, cls, optional, only
         self.name = _dotted(path)
+        self.present = data is not None or not path
         self._on_change = on_change
-        self.controls: dict[str, FieldControl] = {}
-        self.sections: dict[str, TableSection] = {self.name: self}
+        if data_of is None:
+            root: dict[str, Any] = {}
+            if path:
+                _set(root, path, copy.deepcopy(dict(data)) if data is not None else None)
+            else:
+                root = copy.deepcopy(dict(data or {}))
+            data_of = lambda p: _get(root, p)  # noqa: E731
+        self._data_of = data_of
+        self._registry = registry or _Registry()
+        self._registry.sections[self.name] = self
+        self._subsections: list[TableSection] = []
+        self.built = False
         self.error_label = widgets.Label("", style=_ERROR_STYLE)
-        rows: list[widgets.Widget] = []
-        if data is None and path:
-            self.add_button = widgets.Button(description=f"add [{self.name}]", tooltip="add this table with its defaults")
-            self.add_button.on_click(lambda _b: self._emit({}))
-            rows.append(widgets.HBox([widgets.Label("absent"), self.add_button, self.error_label]))
-        else:
-            if optional:
-                self.remove_button = widgets.Button(description="remove", tooltip=f"leave [{self.name}] out")
-                self.remove_button.on_click(lambda _b: self._emit(None))
-                rows.append(widgets.HBox([self.remove_button, self.error_label]))
-            rows.extend(self._build(data or {}, only))
-        body = widgets.VBox(rows)
+        self._body = widgets.VBox()
         if not path:
-            self.widget: widgets.Widget = body
+            self.widget: widgets.Widget = self._body
+            self.build()
         else:
-            label = title or path[-1]
-            self.widget = widgets.Accordion(children=[body], titles=(label + (" (absent)" if data is None else ""),),
-                                            selected_index=None)  # fmt: skip
+            label = (title or path[-1]) + ("" if self.present else " (absent)")
+            self.widget = widgets.Accordion(children=[self._body], titles=(label,), selected_index=None)
+            self.widget.observe(self._opened, "selected_index")
+
+    @property
+    def is_open(self) -> bool:
+        """Whether the section is expanded (the root always is)."""
+        return not self.path or self.widget.selected_index is not None
+
+    def open(self) -> None:
+        """Expand the section (building it)."""
+        if self.path:
+            self.widget.selected_index = 0
+        self.build()
+
+    def _opened(self, change: dict[str, Any]) -> None:
+        if change["new"] is not None:
+            self.build()
 
     def _emit(self, raw: Any) -> None:
         if self._on_change is not None:
@@ -572,36 +671,68 @@ class TableSection:
         """Show (or clear) a message for the table as a whole."""
         self.error_label.value = message
 
-    def _child(self, path: Path, cls: type, data: Any, optional: bool, title: str | None = None) -> TableSection:
-        sub = TableSection(path, cls, data, optional=optional, on_change=self._on_change, title=title)
-        self.controls.update(sub.controls)
-        self.sections.update(sub.sections)
+    def build(self) -> None:
+        """Make the section's rows (once)."""
+        if self.built:
+            return
+        self.built = True
+        rows: list[widgets.Widget] = []
+        if not self.present:
+            self.add_button = widgets.Button(description=f"add [{self.name}]", tooltip="add with its defaults")
+            self.add_button.on_click(lambda _b: self._emit({}))
+            rows.append(widgets.HBox([widgets.Label("absent"), self.add_button, self.error_label]))
+        else:
+            if self.optional:
+                self.remove_button = widgets.Button(description="remove", tooltip=f"leave [{self.name}] out")
+                self.remove_button.on_click(lambda _b: self._emit(None))
+                rows.append(widgets.HBox([self.remove_button, self.error_label]))
+            rows.extend(self._rows(self._data_of(self.path) or {}))
+        self._body.children = rows
+
+    def build_all(self) -> None:
+        """Build this section and every subsection."""
+        self.build()
+        for sub in self._subsections:
+            sub.build_all()
+
+    @property
+    def controls(self) -> dict[str, FieldControl]:
+        self.build_all()
+        prefix = f"{self.name}." if self.name else ""
+        return {k: c for k, c in self._registry.controls.items() if k.startswith(prefix)}
+
+    @property
+    def sections(self) -> dict[str, TableSection]:
+        self.build_all()
+        prefix = f"{self.name}." if self.name else ""
+        return {k: s for k, s in self._registry.sections.items() if k == self.name or k.startswith(prefix)}
+
+    def _child(self, path: Path, cls: type, optional: bool, title: str | None = None) -> TableSection:
+        sub = TableSection(path, cls, self._data_of(path), optional=optional, on_change=self._on_change,
+                           title=title, data_of=self._data_of, registry=self._registry)  # fmt: skip
+        self._subsections.append(sub)
         return sub
 
-    def _build(self, data: Mapping[str, Any], only: Any) -> list[widgets.Widget]:
+    def _rows(self, data: Mapping[str, Any]) -> list[widgets.Widget]:
         rows: list[widgets.Widget] = []
         subsections: list[widgets.Widget] = []
         for f, kind, detail in field_kinds(self.cls):
-            if only is not None and f.name not in only:
+            if self.only is not None and f.name not in self.only:
                 continue
             path = (*self.path, f.name)
             value = data.get(f.name)
             if kind in ("table", "params"):
-                sub = self._child(path, detail, value, _is_optional(f) or value is None)
+                sub = self._child(path, detail, _is_optional(f) or value is None)
                 subsections.append(sub.widget)
             elif kind == "named_tables":
-                holder = widgets.VBox()
-                items = []
-                for key, sub_data in (value or {}).items():
-                    items.append(self._child((*path, key), detail, sub_data, False).widget)
+                items = [self._child((*path, key), detail, False).widget for key in (value or {})]
                 if not items:
                     items.append(widgets.Label("none (add them in the TOML text)"))
-                holder.children = items
-                box = widgets.Accordion(children=[holder], titles=(f.name,), selected_index=None)
+                box = widgets.Accordion(children=[widgets.VBox(items)], titles=(f.name,), selected_index=None)
                 subsections.append(box)
             else:
                 control = FieldControl(path, f, kind, detail, value, on_change=self._on_change)
-                self.controls[control.name] = control
+                self._registry.controls[control.name] = control
                 rows.append(control.widget)
         return rows + subsections
 
@@ -683,17 +814,48 @@ class SpecEditor(Twinned, traitlets.HasTraits):
     # -- building -------------------------------------------------------------------
 
     def _build(self) -> None:
-        self.root = TableSection((), Spec, self._data, on_change=self._changed, only=self.tables)
-        self.controls: dict[str, FieldControl] = self.root.controls
-        self.sections: dict[str, TableSection] = self.root.sections
+        was_open = [name for name, sec in getattr(self, "_registry", _Registry()).sections.items() if sec.is_open]
+        self._registry = _Registry()
+        self.root = TableSection((), Spec, self._data, on_change=self._changed, only=self.tables,
+                                 data_of=lambda p: _get(self._data, p), registry=self._registry)  # fmt: skip
         self._sig = _signature(Spec, self._data)
         self.widget.children = [self._io_row, self.root.widget]
+        for name in was_open:  # keep the sections the user had open
+            if name in self._registry.sections:
+                self._registry.sections[name].open()
+
+    @property
+    def controls(self) -> dict[str, FieldControl]:
+        """Every field control by dotted path (builds every section)."""
+        return self.root.controls
+
+    @property
+    def sections(self) -> dict[str, TableSection]:
+        """Every table section by dotted path (builds every section)."""
+        return self.root.sections
+
+    def _find(self, path: str) -> FieldControl | TableSection | None:
+        """The control or section at ``path``, building only the sections on the way."""
+        keys = path.split(".")
+        for k in range(1, len(keys) + 1):
+            sec = self._registry.sections.get(".".join(keys[:k]))
+            if sec is not None:
+                sec.build()
+        return self._registry.controls.get(path) or self._registry.sections.get(path)
+
+    def section(self, path: str) -> TableSection:
+        """The section of a table by dotted path, e.g. ``"current.variation"``."""
+        found = self._find(path)
+        if not isinstance(found, TableSection):
+            raise ParameterError("path", path, f"must name a table shown here, e.g. {sorted(self.sections)[:3]}")
+        return found
 
     def control(self, path: str) -> FieldControl:
         """The control of a field by dotted path, e.g. ``"sea.hs_m"``."""
-        if path not in self.controls:
+        found = self._find(path)
+        if not isinstance(found, FieldControl):
             raise ParameterError("path", path, f"must name a field shown here, e.g. {sorted(self.controls)[:3]}")
-        return self.controls[path]
+        return found
 
     # -- changes --------------------------------------------------------------------
 
@@ -716,13 +878,13 @@ class SpecEditor(Twinned, traitlets.HasTraits):
         errors = dict(self.errors)
         errors.pop(name, None)
         self.errors = errors
-        if source is not None and name in self.controls and self.controls[name] is source:
+        if source is not None and self._registry.controls.get(name) is source:
             source.set_error("")
         return True
 
     def _refuse(self, name: str, message: str, source: Any) -> None:
         self.errors = {**self.errors, name: message}
-        target = source if source is not None else self.controls.get(name) or self.sections.get(name)
+        target = source if source is not None else self._find(name)
         if target is not None:
             target.set_error(message)
 
@@ -732,11 +894,33 @@ class SpecEditor(Twinned, traitlets.HasTraits):
         if _signature(Spec, data) != self._sig:
             self._build()
         else:
-            for name, control in self.controls.items():
+            for control in self._registry.controls.values():
                 value = _get(data, control.path)
                 if value != control._shown:
                     control.show(value)
         self.spec = spec
+
+    def read_controls(self) -> Spec:
+        """A spec built from what the controls show (panel -> spec), through the loader.
+
+        Tables not shown (see ``tables``) keep the current spec's values.
+
+        Raises
+        ------
+        ParameterError
+            When the values shown do not make a valid spec (e.g. after a
+            refused change).
+        """
+        data = copy.deepcopy(self._data)
+        for key in list(data):
+            if self.tables is None or key in self.tables:
+                if isinstance(data[key], dict):
+                    data[key] = _strip_values(data[key])
+                else:
+                    del data[key]
+        for control in self.controls.values():
+            _set(data, control.path, control.read())
+        return spec_from_data(data)
 
     def set_value(self, path: str, value: Any) -> bool:
         """Change one field by dotted path (``None`` removes it), as its control would.
@@ -749,17 +933,19 @@ class SpecEditor(Twinned, traitlets.HasTraits):
             unchanged.
         """
         keys = tuple(path.split("."))
-        ok = self._apply(keys, value, self.controls.get(path) or self.sections.get(path))
-        if not ok and path in self.controls:
-            self.controls[path].show(value)
-            self.controls[path].set_error(self.errors[path])
+        target = self._find(path)
+        ok = self._apply(keys, value, target)
+        if not ok and isinstance(target, FieldControl):
+            with contextlib.suppress(traitlets.TraitError, TypeError, ValueError):
+                target.show(value)  # a widget that cannot hold the value keeps its last one
+            target.set_error(self.errors[path])
         return ok
 
     def set_spec(self, spec: Spec) -> None:
         """Show ``spec`` in every control (code -> panel); clears the errors."""
         if not isinstance(spec, Spec):
             raise ParameterError("spec", spec, "must be a wavebench.spec.Spec (load one with load_spec)")
-        for target in (*self.controls.values(), *self.sections.values()):
+        for target in (*self._registry.controls.values(), *self._registry.sections.values()):
             target.set_error("")
         self.errors = {}
         self._accept(spec)
@@ -829,6 +1015,21 @@ class SpecEditor(Twinned, traitlets.HasTraits):
             items = "".join(f"<li>{escape(msg)}</li>" for msg in self.errors.values())
             parts.append(f"<p>Refused changes (the spec above is the last valid one):</p><ul>{items}</ul>")
         return "".join(parts)
+
+
+def _strip_values(table: dict[str, Any]) -> dict[str, Any]:
+    """The nested tables of ``table`` with every value left out (the skeleton the controls fill in)."""
+    out: dict[str, Any] = {}
+    for key, value in table.items():
+        if isinstance(value, dict) and not _looks_like_distribution(value):
+            out[key] = _strip_values(value)
+    return out
+
+
+def _looks_like_distribution(value: Mapping[str, Any]) -> bool:
+    from ..spec.distributions import DISTRIBUTION_KINDS
+
+    return any(k in DISTRIBUTION_KINDS for k in value)
 
 
 def _tables_toml(spec: Spec, tables: tuple[str, ...]) -> str:

@@ -452,8 +452,9 @@ def map_svg(view: EnvironmentView, *, width: int = 520, max_cells: int = 50) -> 
         xe, yn = px(edges_e), py(edges_n)
         for a, i in enumerate(in_):
             for b, j in enumerate(ie):
+                fill = depth_color(d[i, j], lo, hi)
                 out.append(f'<rect x="{xe[b]:.1f}" y="{yn[a + 1]:.1f}" width="{xe[b + 1] - xe[b] + 0.3:.1f}" '
-                           f'height="{yn[a] - yn[a + 1] + 0.3:.1f}" fill="{depth_color(d[i, j], lo, hi)}"/>')  # fmt: skip
+                           f'height="{yn[a] - yn[a + 1] + 0.3:.1f}" fill="{fill}"/>')  # fmt: skip
     for xs, ys in zip(view.contour_x, view.contour_y, strict=True):
         out.append(_path(px(xs), py(ys), _CONTOUR_COLOR, 0.8))
     out.append(_path(px(view.path_east_m), py(view.path_north_m), _PATH_COLOR, 1.6, dashed=True))
@@ -565,7 +566,7 @@ class EnvironmentPanel(Twinned):
         self.wind_arrow = bqplot.Lines(x=np.zeros(2), y=np.zeros(2), scales={"x": sx, "y": sy},
                                        colors=[_WIND_COLOR], stroke_width=3, labels=["wind toward"])  # fmt: skip
         axes = [bqplot.Axis(scale=sx, label="east [m]"),
-                bqplot.Axis(scale=sy, label="north [m]", orientation="vertical"),
+                bqplot.Axis(scale=sy, label="north [m]", side="left"),
                 bqplot.ColorAxis(scale=sc, label="depth [m]", side="right")]  # fmt: skip
         self.map_fig = bqplot.Figure(
             marks=[self.heatmap, self.contours, self.path, self.current_arrows, self.wind_arrow], axes=axes,
@@ -581,7 +582,7 @@ class EnvironmentPanel(Twinned):
         self.record_fig = bqplot.Figure(
             marks=[self.wind_line, self.current_line],
             axes=[bqplot.Axis(scale=rx, label="t [s]"),
-                  bqplot.Axis(scale=ry, label="speed [m/s]", orientation="vertical", tick_format=".3g")],
+                  bqplot.Axis(scale=ry, label="speed [m/s]", side="left", tick_format=".3g")],
             title="speeds (trial 0)", layout=widgets.Layout(width="460px", height="300px"),
             fig_margin={"top": 40, "bottom": 45, "left": 60, "right": 15},
         )  # fmt: skip

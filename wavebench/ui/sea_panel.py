@@ -186,7 +186,7 @@ def _line_figure(title: str, xlabel: str, ylabel: str, color: str) -> tuple[bqpl
     sx, sy = bqplot.LinearScale(), bqplot.LinearScale()
     line = bqplot.Lines(x=np.zeros(2), y=np.zeros(2), scales={"x": sx, "y": sy}, colors=[color])
     ax = bqplot.Axis(scale=sx, label=xlabel)
-    ay = bqplot.Axis(scale=sy, label=ylabel, orientation="vertical", tick_format=".3g")
+    ay = bqplot.Axis(scale=sy, label=ylabel, side="left", tick_format=".3g")
     fig = bqplot.Figure(marks=[line], axes=[ax, ay], title=title,
                         layout=widgets.Layout(width="440px", height="280px"),
                         fig_margin={"top": 40, "bottom": 45, "left": 60, "right": 15})  # fmt: skip
