@@ -503,6 +503,17 @@ def test_sections_absent_without_their_inputs(tmp_path: Path) -> None:
     assert study_sections(pd.DataFrame({"trial": [0, 1]}), None, ()) == []
 
 
+def test_fixed_hs_gives_one_ring(tmp_path: Path) -> None:
+    store = _store(tmp_path / "fixed_hs", ["scenario.duration_s=30.0", "campaign.trials=12", "sea.hs_m=1.2"])
+    frame = pd.read_parquet(store / "metrics.parquet")
+    assert "param.sea.hs_m" not in frame  # Hs not drawn
+    section = _section(study_page(store), "operability")
+    cells = SECTOR.findall(section)
+    assert {(c[3], c[4]) for c in cells} == {("1.2", "1.2")}
+    assert sum(int(c[6]) for c in cells) == 2 * 12  # every trial in the one ring, in each of the 2 requirements' charts
+    assert "one ring, the spec&#x27;s fixed Hs of 1.2 m" in section
+
+
 def test_chart_helpers_refuse_bad_shapes() -> None:
     with pytest.raises(ParameterError, match="bin_deg"):
         operability([0.0, 10.0], [1.0, 2.0], [True, False], course_deg=0.0, bin_deg=35.0)

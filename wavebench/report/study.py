@@ -9,16 +9,18 @@ metrics and the ``param.<toml path>`` draws) and the spec's requirements:
   :func:`~wavebench.analysis.sensitivity.requirement_sensitivity`), as ranked
   signed bars with a table of rho, p-value and n. Inputs with p > 0.05 (or an
   undefined rho) are drawn pale.
-- *Operability*: when the trials drew both the sea's mean wave direction
-  (``param.sea.spreading.mean_dir_deg``) and its significant wave height
-  (``param.sea.hs_m``) and the spec (its route) is known, per requirement a
-  polar chart and a matrix table of the share of trials that met it by wave
-  heading RELATIVE to the craft's course (:func:`relative_heading_deg`:
-  180 deg head seas, 0 following, 90/270 beam) and Hs. The course is that of
-  the route's longest leg (:func:`route_course`). Grid axes
+- *Operability*: when the trials drew the sea's mean wave direction
+  (``param.sea.spreading.mean_dir_deg``), the spec (its route) is known and
+  the significant wave height is drawn (``param.sea.hs_m``) or fixed, per
+  requirement a polar chart and a matrix table of the share of trials that
+  met it by wave heading RELATIVE to the craft's course
+  (:func:`relative_heading_deg`: 180 deg head seas, 0 following, 90/270
+  beam) and Hs. The course is that of the route's longest leg
+  (:func:`route_course`). Grid axes
   (``{ grid = [...] }``) give exact cells, one per level; drawn values are
   binned (30-degree sectors, Hs quantile bins). Cells with fewer than 5
-  trials are hatched.
+  trials are hatched. :func:`operability_of` gives one requirement's counts
+  from a store's metrics and spec.
 - *Closest to failing*: per requirement, the 5 trials with the least margin
   to the threshold (:func:`closest_trials`), trials without a value first,
   with how they ended, why they failed and what they drew; and the Python
@@ -71,6 +73,7 @@ __all__ = [
     "closest_trials",
     "meets",
     "operability",
+    "operability_of",
     "operability_polar_chart",
     "operability_table",
     "relative_heading_deg",
@@ -652,8 +655,7 @@ def _heading_word(beta: float) -> str:
 def _hs_text(op: Operability, j: int) -> str:
     if op.hs_grid:
         return f"Hs {op.hs_lo_m[j]:g} m"
-    last = j == op.hs_lo_m.size - 1
-    return f"Hs {op.hs_lo_m[j]:.3g}–{op.hs_hi_m[j]:.3g} m{'' if last else ' (excl.)'}"
+    return f"Hs {op.hs_lo_m[j]:.3g}–{op.hs_hi_m[j]:.3g} m"
 
 
 def _uid(*parts: object) -> str:
@@ -853,26 +855,69 @@ def _grid_levels(spec: Any) -> tuple[Sequence[float] | None, Sequence[float] | N
     return (tuple(d.levels) if isinstance(d, Grid) else None, tuple(h.levels) if isinstance(h, Grid) else None)
 
 
-def _operability_section(metrics: pd.DataFrame, reqs: list[Requirement], spec: Any) -> str:
-    if DIRECTION_COLUMN not in metrics or HS_COLUMN not in metrics or not reqs:
-        return ""
+def _fixed_hs(spec: Any) -> float | None:
+    """The spec's Hs when it is one fixed number (not drawn), else None."""
+    h = getattr(getattr(spec, "sea", None), "hs_m", None)
+    if isinstance(h, (int, float)) and not isinstance(h, bool) and math.isfinite(float(h)):
+        return float(h)
+    return None
+
+
+def operability_of(metrics: pd.DataFrame, spec: Any, req: Requirement, *,
+                   bin_deg: float = HEADING_BIN_DEG) -> Operability | None:  # fmt: skip
+    """The operability of one requirement from a store's metrics and its spec.
+
+    The course is the spec's route's (:func:`route_course`); grid axes on
+    the wave direction or Hs give exact cells (their levels); a fixed Hs
+    (not drawn) gives one ring.
+
+    Parameters
+    ----------
+    metrics : pandas.DataFrame
+        A store's metrics table: ``param.sea.spreading.mean_dir_deg``,
+        ``param.sea.hs_m`` (unless Hs is fixed) and the requirement's metric.
+    spec : Spec
+        The campaign's spec (its ``mission`` and ``sea``).
+    req : Requirement
+    bin_deg : float
+        Sector width for drawn directions [deg] (:func:`operability`).
+
+    Returns
+    -------
+    Operability or None
+        None when a column is missing, the spec has no route, or
+        :func:`operability` has nothing to count.
+    """
     mission = getattr(spec, "mission", None)
-    if mission is None:
+    if mission is None or DIRECTION_COLUMN not in metrics or req.metric not in metrics:
+        return None
+    dir_levels, hs_levels = _grid_levels(spec)
+    if HS_COLUMN in metrics:
+        h = pd.to_numeric(metrics[HS_COLUMN], errors="coerce").to_numpy(dtype=float)
+    else:
+        fixed = _fixed_hs(spec)
+        if fixed is None:
+            return None
+        h, hs_levels = np.full(len(metrics), fixed), (fixed,)
+    d = pd.to_numeric(metrics[DIRECTION_COLUMN], errors="coerce").to_numpy(dtype=float)
+    values = pd.to_numeric(metrics[req.metric], errors="coerce").to_numpy(dtype=float)
+    return operability(d, h, meets(values, req.comparator, req.threshold),
+                       course_deg=route_course(mission.waypoints()).course_deg, bin_deg=bin_deg,
+                       direction_levels_deg=dir_levels, hs_levels_m=hs_levels)  # fmt: skip
+
+
+def _operability_section(metrics: pd.DataFrame, reqs: list[Requirement], spec: Any) -> str:
+    mission = getattr(spec, "mission", None)
+    if mission is None or DIRECTION_COLUMN not in metrics or not reqs:
         return ""  # without the spec's route the course, and so the relative heading, is unknown
     route = route_course(mission.waypoints())
-    dir_levels, hs_levels = _grid_levels(spec)
-    d = pd.to_numeric(metrics[DIRECTION_COLUMN], errors="coerce").to_numpy(dtype=float)
-    h = pd.to_numeric(metrics[HS_COLUMN], errors="coerce").to_numpy(dtype=float)
     figs = []
     op = None
     for req in reqs:
-        if req.metric not in metrics:
+        one = operability_of(metrics, spec, req)
+        if one is None:
             continue
-        values = pd.to_numeric(metrics[req.metric], errors="coerce").to_numpy(dtype=float)
-        op = operability(d, h, meets(values, req.comparator, req.threshold), course_deg=route.course_deg,
-                         direction_levels_deg=dir_levels, hs_levels_m=hs_levels)  # fmt: skip
-        if op is None:
-            continue
+        op = one
         need = math.isfinite(req.probability)
         svg = operability_polar_chart(op, title=f"{req.name}: share meeting {req.text()}",
                                       required=req.probability if need else None)  # fmt: skip
@@ -887,15 +932,20 @@ def _operability_section(metrics: pd.DataFrame, reqs: list[Requirement], spec: A
                     f"</figure>{operability_table(op, requirement=req.name)}")  # fmt: skip
     if not figs or op is None:
         return ""
+    n_dir = op.heading_deg.size
     cols = (
-        f"one sector per level of the grid on the wave direction ({len(dir_levels)} levels), each trial exactly on "
-        "its sector's heading" if op.heading_grid
+        f"one sector per level of the grid on the wave direction ({n_dir} level{'s' if n_dir != 1 else ''}), each "
+        "trial exactly on its sector's heading" if op.heading_grid
         else f"{HEADING_BIN_DEG:g}-degree sectors of the relative heading centred on multiples of {HEADING_BIN_DEG:g}°"
     )  # fmt: skip
-    rows = (
-        f"one ring per level of the grid on Hs ({len(hs_levels)} levels)" if op.hs_grid
-        else "bins of the drawn Hs between its quantiles, so each ring holds about the same number of trials"
-    )  # fmt: skip
+    n_hs = op.hs_lo_m.size
+    if HS_COLUMN not in metrics:
+        rows = f"one ring, the spec's fixed Hs of {op.hs_lo_m[0]:g} m"
+    elif op.hs_grid:
+        rows = f"one ring per level of the grid on Hs ({n_hs} level{'s' if n_hs != 1 else ''})"
+    else:
+        rows = ("bins of the drawn Hs between its quantiles (each from its lower edge up to, not including, its upper "
+                "one; the last includes both), so each ring holds about the same number of trials")
     note = (
         "Relative wave heading = direction the waves travel toward − the craft's course, 0–360°: 180° head seas, "
         "0° following seas, 90° and 270° beam seas (waves from port and from starboard); the encounter angle of "
@@ -905,7 +955,8 @@ def _operability_section(metrics: pd.DataFrame, reqs: list[Requirement], spec: A
         "the conditions the trials ran; a share from a few trials is uncertain."
     )
     if op.n_left_out:
-        note += f" {op.n_left_out} trial{'s' if op.n_left_out != 1 else ''} without a drawn direction or Hs left out."
+        note += (f" {op.n_left_out} trial{'s' if op.n_left_out != 1 else ''} without a drawn direction or Hs, or off "
+                 "the grid's levels, left out.")  # fmt: skip
     return (
         '<section id="operability"><h2>Operability</h2><div class="figs">' + "".join(figs) + "</div>"
         f"<p class='note'>{escape(note)}</p></section>"
@@ -1055,8 +1106,8 @@ def study_sections(metrics: pd.DataFrame, spec: Any, verdicts: Sequence[dict[str
         ``(anchor id, link text, section HTML)`` in page order, only for the
         sections with something to show: "What drives the results" needs
         drawn inputs and requirements, "Operability" needs a drawn wave
-        direction and Hs and the spec (its route gives the course the
-        headings are relative to), "Closest to failing" needs a requirement
+        direction, a drawn or fixed Hs and the spec (its route gives the
+        course the headings are relative to), "Closest to failing" needs a requirement
         whose metric is in the table.
     """
     reqs = requirements_of(spec, verdicts)
