@@ -46,3 +46,13 @@ def test_an_undecidable_requirement_runs_to_the_cap() -> None:
 def test_a_sequential_plan_needs_requirements() -> None:
     with pytest.raises(ParameterError, match="needs requirements"):
         run_campaign(_spec(), progress=False, until=SequentialPlan(max_trials=20, first_look=10, look_every=10))
+
+
+def test_on_chunk_reports_each_finished_chunk_in_order() -> None:
+    seen = []
+    spec = _spec()
+    res = run_campaign(spec, trials=25, progress=False,
+                       on_chunk=lambda out, done, planned: seen.append(
+                           (None if out is None else int(out.trials[0]), done, planned)))  # fmt: skip
+    assert seen == [(None, 0, 25), (0, 10, 25), (10, 20, 25), (20, 25, 25)]
+    assert len(res.metrics) == 25

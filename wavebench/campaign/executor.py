@@ -232,6 +232,7 @@ def run_campaign(
     until: Any | None = None,
     store: str | os.PathLike[str] | None = None,
     resume: bool = False,
+    on_chunk: Callable[[ChunkOutput | None, int, int], Any] | None = None,
 ) -> CampaignResult:
     """Run a campaign in chunks of ``batch_size`` trials, inline, in local processes or on Dask.
 
@@ -283,6 +284,13 @@ def run_campaign(
         bits as an uninterrupted run. With ``until``, give the same plan: the
         chunks read back are looked at in trial order, as they were, so the
         campaign stops where the uninterrupted one would.
+    on_chunk : callable, optional
+        ``on_chunk(output, done, planned)`` in this process after each chunk
+        is finished (and stored): the :class:`ChunkOutput`, the trials done
+        so far (resumed ones included) and the trials planned. Called once
+        first with ``output=None`` and the trials read back from the store
+        (0 for a new campaign). For progress displays (e.g. a notebook
+        dashboard); it must not change the output.
 
     Returns
     -------
@@ -329,6 +337,8 @@ def run_campaign(
     bar = tqdm(total=c.trials, desc="campaign", unit="trial", disable=not progress, smoothing=0.1)
     done = sum(len(frame) for frame, _ in stored.values())
     bar.n = done
+    if on_chunk is not None:
+        on_chunk(None, done, c.trials)
     try:
         with open_executor(c.executor if executor is None else executor, workers=workers,
                            scheduler=scheduler) as ex:  # fmt: skip
@@ -360,6 +370,8 @@ def run_campaign(
                         done += out.trials.size
                         bar.n = done
                         bar.refresh()
+                        if on_chunk is not None:
+                            on_chunk(out, done, c.trials)
                     if monitor is not None:
                         monitor.update({name: _met(frames[-1], req) for name, req in spec.requirements})
                         if monitor.may_stop:
