@@ -20,6 +20,7 @@ from typing import Any
 
 import ipywidgets as widgets
 import pytest
+import tomllib
 import traitlets
 
 from wavebench.core.errors import ParameterError
@@ -305,3 +306,22 @@ def test_restricted_editor_and_static_twin() -> None:
     html = editor._repr_mimebundle_()["text/html"]
     assert TWIN_CLASS in html and "[sea]" in html and "[campaign]" not in html
     assert "sea.n_components = 0 is not allowed" in html and "<script" not in html
+
+
+def test_kind_switch_needing_several_fields_goes_through_the_tables_toml() -> None:
+    editor = _editor("dulse_bay")
+    # one control at a time cannot do it: flat needs depth_m, which synthetic_bay refuses
+    assert editor.set_value("seabed.kind", "flat") is False
+    assert editor.errors["seabed.kind"] == _loader_message(editor.spec, "seabed.kind", "flat")
+    section = editor.section("seabed")
+    section.toggle_toml()
+    assert tomllib.loads(section.toml_text.value) == spec_to_data(editor.spec)["seabed"]  # shows the table
+    section.toml_text.value = 'kind = "flat"\ndepth_m = 15.0\n'
+    section.toml_apply.click()
+    assert editor.spec.seabed.kind == "flat" and editor.spec.seabed.depth_m == 15.0
+    assert "seabed.bay.n_shoals" not in editor.controls and "seabed" not in editor.errors
+    before = spec_hash(editor.spec)
+    editor.section("seabed").apply_toml('kind = "flat"\ndepth_m = -1.0\n')
+    message = editor.errors["seabed"]
+    assert message == _loader_message(editor.spec, "seabed.depth_m", -1.0)
+    assert editor.section("seabed").error_label.value == message and spec_hash(editor.spec) == before

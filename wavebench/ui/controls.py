@@ -64,7 +64,7 @@ from ipywidgets.widgets.widget_string import LabelStyle, TextStyle
 from ..core.errors import ParameterError
 from ..core.params import Bounds, Params
 from ..report.html import escape
-from ..spec.distributions import parse_distribution
+from ..spec.distributions import DISTRIBUTION_KINDS, parse_distribution
 from ..spec.fields import representative
 from ..spec.io import dump_spec, load_spec, save_spec
 from ..spec.schema import Spec, spec_from_data, spec_to_data
@@ -82,6 +82,7 @@ __all__ = [
     "field_kinds",
     "parse_literal",
     "reachable_tables",
+    "table_toml",
     "toml_literal",
 ]
 
@@ -153,6 +154,36 @@ def parse_literal(text: str, path: str) -> Any:
         raise ParameterError(
             path, text, f"must be a TOML value, e.g. 1.5 or {{ uniform = [1.0, 2.0] }} ({exc})"
         ) from None
+
+
+def _looks_like_distribution(value: Mapping[str, Any]) -> bool:
+    return any(k in DISTRIBUTION_KINDS for k in value)
+
+
+def table_toml(data: Mapping[str, Any], prefix: str = "") -> str:
+    """TOML text of one table's plain data: values first (distributions inline), then sub-tables.
+
+    Examples
+    --------
+    >>> print(table_toml({"kind": "cos2s", "mean_dir_deg": {"uniform": [160.0, 200.0]}, "bay": {"n_shoals": 2}}))
+    kind = "cos2s"
+    mean_dir_deg = { uniform = [160.0, 200.0] }
+    <BLANKLINE>
+    [bay]
+    n_shoals = 2
+    <BLANKLINE>
+    """
+    lines, subs = [], []
+    for key, value in data.items():
+        if isinstance(value, Mapping) and not _looks_like_distribution(value):
+            subs.append((key, value))
+        else:
+            lines.append(f"{key} = {toml_literal(value)}")
+    out = "\n".join(lines) + ("\n" if lines else "")
+    for key, value in subs:
+        name = f"{prefix}{key}"
+        out += f"\n[{name}]\n" + table_toml(value, name + ".")
+    return out
 
 
 # ---------------------------------------------------------------------------
@@ -637,6 +668,7 @@ class TableSection:
         self._registry = registry or _Registry()
         self._registry.sections[self.name] = self
         self._subsections: list[TableSection] = []
+        self.toml_box: widgets.VBox | None = None
         self.built = False
         self.error_label = widgets.Label("", style=_ERROR_STYLE)
         self._body = widgets.VBox()
@@ -677,17 +709,49 @@ class TableSection:
             return
         self.built = True
         rows: list[widgets.Widget] = []
-        if not self.present:
-            self.add_button = widgets.Button(description=f"add [{self.name}]", tooltip="add with its defaults")
-            self.add_button.on_click(lambda _b: self._emit({}))
-            rows.append(widgets.HBox([widgets.Label("absent"), self.add_button, self.error_label]))
-        else:
-            if self.optional:
+        if self.path:
+            head: list[widgets.Widget] = []
+            if not self.present:
+                self.add_button = widgets.Button(description=f"add [{self.name}]", tooltip="add with its defaults")
+                self.add_button.on_click(lambda _b: self._emit({}))
+                head += [widgets.Label("absent"), self.add_button]
+            elif self.optional:
                 self.remove_button = widgets.Button(description="remove", tooltip=f"leave [{self.name}] out")
                 self.remove_button.on_click(lambda _b: self._emit(None))
-                rows.append(widgets.HBox([self.remove_button, self.error_label]))
+                head.append(self.remove_button)
+            tip = "edit the whole table as TOML text (to change several fields at once, e.g. a kind and its fields)"
+            self.toml_button = widgets.Button(description="edit as TOML", tooltip=tip)
+            self.toml_button.on_click(lambda _b: self.toggle_toml())
+            head += [self.toml_button, self.error_label]
+            rows.append(widgets.HBox(head))
+        if self.present:
             rows.extend(self._rows(self._data_of(self.path) or {}))
         self._body.children = rows
+
+    def toggle_toml(self) -> None:
+        """Show (filled with the table's current TOML) or hide the table's text editor."""
+        self.build()
+        if self.toml_box is None:
+            self.toml_text = widgets.Textarea(layout=widgets.Layout(width="640px", height="180px"))
+            self.toml_apply = widgets.Button(description="apply", tooltip="validate and use this table")
+            self.toml_apply.on_click(lambda _b: self.apply_toml(self.toml_text.value))
+            self.toml_box = widgets.VBox([self.toml_text, self.toml_apply])
+            children = list(self._body.children)
+            self._body.children = [children[0], self.toml_box, *children[1:]]
+        elif self.toml_box.layout.display != "none":
+            self.toml_box.layout.display = "none"
+            return
+        self.toml_box.layout.display = None
+        self.toml_text.value = table_toml(self._data_of(self.path) or {})
+
+    def apply_toml(self, text: str) -> None:
+        """Replace the whole table by TOML ``text`` (validated by the loader like any change)."""
+        try:
+            data = tomllib.loads(text)
+        except tomllib.TOMLDecodeError as exc:
+            self._emit(ParameterError(self.name, "<text>", f"is not valid TOML: {exc}"))
+            return
+        self._emit(data)
 
     def build_all(self) -> None:
         """Build this section and every subsection."""
@@ -807,7 +871,11 @@ class SpecEditor(Twinned, traitlets.HasTraits):
         self.status = widgets.Label("")
         self.save_button.on_click(lambda _b: self._save_clicked())
         self.load_button.on_click(lambda _b: self._load_clicked())
-        self._io_row = widgets.HBox([self.path_text, self.save_button, self.load_button, self.status])
+        self.toml_button = widgets.Button(description="edit as TOML", tooltip="edit the whole spec as TOML text")
+        self.toml_button.on_click(lambda _b: self.toggle_toml())
+        self.toml_box: widgets.VBox | None = None
+        self._io_row = widgets.HBox([self.path_text, self.save_button, self.load_button, self.toml_button,
+                                     self.status])  # fmt: skip
         self.widget = widgets.VBox()
         self._build()
 
@@ -819,7 +887,7 @@ class SpecEditor(Twinned, traitlets.HasTraits):
         self.root = TableSection((), Spec, self._data, on_change=self._changed, only=self.tables,
                                  data_of=lambda p: _get(self._data, p), registry=self._registry)  # fmt: skip
         self._sig = _signature(Spec, self._data)
-        self.widget.children = [self._io_row, self.root.widget]
+        self.widget.children = [self._io_row, *([self.toml_box] if self.toml_box else []), self.root.widget]
         for name in was_open:  # keep the sections the user had open
             if name in self._registry.sections:
                 self._registry.sections[name].open()
@@ -976,6 +1044,28 @@ class SpecEditor(Twinned, traitlets.HasTraits):
         """Write the current spec to ``path`` (:func:`~wavebench.spec.io.save_spec`)."""
         save_spec(self.spec, path)
 
+    def toggle_toml(self) -> None:
+        """Show (filled with the current spec's TOML) or hide the whole-spec text editor."""
+        if self.toml_box is None:
+            self.toml_text = widgets.Textarea(layout=widgets.Layout(width="720px", height="320px"))
+            self.toml_apply = widgets.Button(description="apply", tooltip="load this text as the spec")
+            self.toml_apply.on_click(lambda _b: self._apply_text())
+            self.toml_box = widgets.VBox([self.toml_text, self.toml_apply])
+            self.widget.children = [self._io_row, self.toml_box, self.root.widget]
+        elif self.toml_box.layout.display != "none":
+            self.toml_box.layout.display = "none"
+            return
+        self.toml_box.layout.display = None
+        self.toml_text.value = self.to_toml()
+
+    def _apply_text(self) -> None:
+        try:
+            self.load_toml(self.toml_text.value)
+        except ParameterError as exc:
+            self.status.value = str(exc)
+            return
+        self.status.value = "applied the TOML text"
+
     def _file(self) -> str | None:
         path = self.path_text.value.strip()
         if not path:
@@ -1024,12 +1114,6 @@ def _strip_values(table: dict[str, Any]) -> dict[str, Any]:
         if isinstance(value, dict) and not _looks_like_distribution(value):
             out[key] = _strip_values(value)
     return out
-
-
-def _looks_like_distribution(value: Mapping[str, Any]) -> bool:
-    from ..spec.distributions import DISTRIBUTION_KINDS
-
-    return any(k in DISTRIBUTION_KINDS for k in value)
 
 
 def _tables_toml(spec: Spec, tables: tuple[str, ...]) -> str:
