@@ -259,6 +259,11 @@ def test_route_course_is_the_longest_leg_and_says_how_much_runs_on_it() -> None:
     assert not rc.dominant and "reciprocal" in rc.text() and "longest leg" in rc.text()
     one_way = route_course([(0.0, 0.0), (500.0, 0.0), (520.0, 10.0)])  # nearly all northbound
     assert one_way.course_deg == 0.0 and one_way.dominant and "route's course 000°" in one_way.text()
+    assert "reciprocal" not in one_way.text()
+    lines = [(0.0, 0.0), (100.0, 0.0), (100.0, 10.0), (0.0, 10.0), (0.0, 20.0), (100.0, 20.0)]  # survey lines N, S, N
+    survey = route_course(lines)
+    assert survey.dominant and survey.share == pytest.approx(200.0 / 320.0, rel=1e-12)
+    assert survey.reciprocal_share == pytest.approx(100.0 / 320.0, rel=1e-12) and "reciprocal" in survey.text()
     with pytest.raises(ParameterError, match="waypoints_ne_m"):
         route_course([(0.0, 0.0), (0.0, 0.0)])
 

@@ -384,10 +384,12 @@ class RouteCourse:
         """How the course was chosen, for a caption."""
         c = f"{self.course_deg:03.0f}°"
         if self.dominant:
-            return (f"the route's course {c} (leg {self.leg} of {self.n_legs}; {self.share:.0%} of the route's length "
-                    f"runs within ±{COURSE_TOLERANCE_DEG:g}° of it)")  # fmt: skip
-        out = (f"the course of the route's longest leg, leg {self.leg} of {self.n_legs} ({c}): no single course "
-               f"covers most of the route (this one {self.share:.0%} of its length, within ±{COURSE_TOLERANCE_DEG:g}°)")
+            out = (f"the route's course {c} (leg {self.leg} of {self.n_legs}; {self.share:.0%} of the route's length "
+                   f"runs within ±{COURSE_TOLERANCE_DEG:g}° of it)")  # fmt: skip
+        else:
+            out = (f"the course of the route's longest leg, leg {self.leg} of {self.n_legs} ({c}): no single course "
+                   f"covers most of the route (this one {self.share:.0%} of its length, within "
+                   f"±{COURSE_TOLERANCE_DEG:g}°)")  # fmt: skip
         if self.reciprocal_share > 0:
             out += (f"; {self.reciprocal_share:.0%} runs on the reciprocal course, where the same sea meets the craft "
                     "from the opposite side (head seas on this course are following seas there)")
