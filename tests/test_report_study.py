@@ -496,6 +496,10 @@ def test_page_is_self_contained_and_svg_well_formed(page: str) -> None:
     assert len(svgs) >= 4
     for svg in svgs:
         ET.fromstring(svg)  # stdlib XML parser: well-formed
+    ids = re.findall(r'\sid="([^"]*)"', body)
+    assert len(ids) == len(set(ids))  # HTML: an id is unique in its page (the hatch patterns of the charts)
+    refs = set(re.findall(r"url\(#([^)]*)\)", body))
+    assert refs and refs <= set(ids)  # every pattern a chart fills with is defined on the page
 
 
 def test_sections_absent_without_their_inputs(tmp_path: Path) -> None:
