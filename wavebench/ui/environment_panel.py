@@ -565,8 +565,11 @@ class EnvironmentPanel(Twinned):
                                            colors=[_CURRENT_COLOR], stroke_width=2, labels=["current"])  # fmt: skip
         self.wind_arrow = bqplot.Lines(x=np.zeros(2), y=np.zeros(2), scales={"x": sx, "y": sy},
                                        colors=[_WIND_COLOR], stroke_width=3, labels=["wind toward"])  # fmt: skip
-        axes = [bqplot.Axis(scale=sx, label="east [m]"),
-                bqplot.Axis(scale=sy, label="north [m]", side="left"),
+        self._map_axes = (
+            bqplot.Axis(scale=sx, label="east [m]"),
+            bqplot.Axis(scale=sy, label="north [m]", side="left", label_offset="48px"),
+        )
+        axes = [*self._map_axes,
                 bqplot.ColorAxis(scale=sc, label="depth [m]", side="right")]  # fmt: skip
         self.map_fig = bqplot.Figure(
             marks=[self.heatmap, self.contours, self.path, self.current_arrows, self.wind_arrow], axes=axes,
@@ -582,9 +585,11 @@ class EnvironmentPanel(Twinned):
         self.record_fig = bqplot.Figure(
             marks=[self.wind_line, self.current_line],
             axes=[bqplot.Axis(scale=rx, label="t [s]"),
-                  bqplot.Axis(scale=ry, label="speed [m/s]", side="left", tick_format=".3g")],
+                  bqplot.Axis(scale=ry, label="speed [m/s]", side="left", tick_format=".3~g",
+                              label_offset="48px")],
             title="speeds (trial 0)", layout=widgets.Layout(width="460px", height="300px"),
-            fig_margin={"top": 40, "bottom": 45, "left": 60, "right": 15},
+            legend_location="bottom-right",
+            fig_margin={"top": 40, "bottom": 45, "left": 68, "right": 15},
         )  # fmt: skip
         self.table = widgets.HTML()
         self.notes = widgets.HTML()
@@ -617,12 +622,14 @@ class EnvironmentPanel(Twinned):
         marks = (self.heatmap, self.contours, self.path, self.current_arrows, self.wind_arrow, self.wind_line,
                  self.current_line)  # fmt: skip
         with contextlib.ExitStack() as stack:
-            for w in (*marks, sx, sy, self.map_fig):
+            for w in (*marks, sx, sy, *self._map_axes, self.map_fig):
                 stack.enter_context(w.hold_sync())
             e0, e1, n0, n1 = view.extent
             half = 0.5 * max(e1 - e0, n1 - n0)
             ce, cn = 0.5 * (e0 + e1), 0.5 * (n0 + n1)
             sx.min, sx.max, sy.min, sy.max = ce - half, ce + half, cn - half, cn + half
+            for axis, lo in zip(self._map_axes, (ce - half, cn - half), strict=True):
+                axis.tick_values = np.asarray(nice_ticks(lo, lo + 2.0 * half, 5))
             if view.depth_m is not None:
                 self.heatmap.x, self.heatmap.y, self.heatmap.color = view.grid_east_m, view.grid_north_m, view.depth_m
                 self.heatmap.visible = True

@@ -186,10 +186,10 @@ def _line_figure(title: str, xlabel: str, ylabel: str, color: str) -> tuple[bqpl
     sx, sy = bqplot.LinearScale(), bqplot.LinearScale()
     line = bqplot.Lines(x=np.zeros(2), y=np.zeros(2), scales={"x": sx, "y": sy}, colors=[color])
     ax = bqplot.Axis(scale=sx, label=xlabel)
-    ay = bqplot.Axis(scale=sy, label=ylabel, side="left", tick_format=".3g")
+    ay = bqplot.Axis(scale=sy, label=ylabel, side="left", tick_format=".3~g", label_offset="48px")
     fig = bqplot.Figure(marks=[line], axes=[ax, ay], title=title,
                         layout=widgets.Layout(width="440px", height="280px"),
-                        fig_margin={"top": 40, "bottom": 45, "left": 60, "right": 15})  # fmt: skip
+                        fig_margin={"top": 40, "bottom": 45, "left": 68, "right": 15})  # fmt: skip
     return fig, line
 
 
@@ -232,7 +232,7 @@ class SeaPanel(Twinned):
                                                              palette[0])  # fmt: skip
         self.spreading_fig, self.spreading_line = _line_figure("directional spreading", "waves from [deg]",
                                                                "D [1/rad]", palette[1])  # fmt: skip
-        self.elevation_fig, self.elevation_line = _line_figure("sample elevation at the origin", "t [s]",
+        self.elevation_fig, self.elevation_line = _line_figure("elevation at the origin", "t [s]",
                                                                "elevation [m]", palette[2])  # fmt: skip
         self.code_label = widgets.HTML()
         self.notes = widgets.HTML()
@@ -276,7 +276,7 @@ class SeaPanel(Twinned):
             self.spreading_line.x, self.spreading_line.y = view.from_deg, view.spreading_per_rad
             self.elevation_line.x, self.elevation_line.y = view.t_s, view.elevation_m
             self.spectrum_fig.title = f"wave spectrum, Hs {view.hs_m:.3g} m, Tp {view.tp_s:.3g} s"
-            self.elevation_fig.title = f"sample elevation at the origin (seed {view.seed}, trial 0)"
+            self.elevation_fig.title = f"elevation at the origin, trial 0 (seed {view.seed})"
             self.code_label.value = f"<b>sea state {view.code}</b> (WMO code table 3700): {escape(view.description)}"
             self.notes.value = "".join(f"<div>{escape(n)}</div>" for n in view.notes)
 
