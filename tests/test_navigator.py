@@ -174,6 +174,28 @@ def test_gnss_innovations_are_consistent(runs) -> None:
     assert lo <= anis <= hi, (lo, anis, hi)
 
 
+def test_the_recorded_drms_is_the_filters_own_accuracy_claim(runs) -> None:
+    # For an unbiased estimate with covariance P, E[e_n^2 + e_e^2] = P_nn + P_ee = DRMS^2 (definition of the
+    # covariance; Bar-Shalom, Li & Kirubarajan 2001, ch. 5.4 for the consistency idea). The GNSS-aided filter is
+    # close to consistent (its NIS test above), so the pooled ratio of mean squared error to mean DRMS^2 must be near
+    # 1 (0.5..1.5 allows the process-noise floors that make it a little pessimistic). For a 2-D Gaussian error the
+    # circle of radius 2 DRMS holds 95.4 % (very elongated) to 98.2 % (circular) of the errors (the usual "2DRMS"
+    # figure); ask for 90 % of the samples to allow for the correlation between samples.
+    clear, outage = runs
+    ts = clear.timeseries
+    err, drms = ts["nav_err_m"].values[:, 1:], ts["nav_drms_m"].values[:, 1:]
+    ok = np.isfinite(err) & np.isfinite(drms)
+    assert ok.sum() > 1000
+    ratio = np.mean(err[ok] ** 2) / np.mean(drms[ok] ** 2)
+    assert 0.5 < ratio < 1.5, ratio
+    assert np.mean(err[ok] <= 2.0 * drms[ok]) >= 0.9
+    # through the outage (40-160 s) the claim grows, and recovers after the fixes return
+    t = outage.timeseries["time"].values
+    d = outage.timeseries["nav_drms_m"].values
+    before, inside = d[:, np.searchsorted(t, 39.0)], d[:, np.searchsorted(t, 159.0)]
+    assert (inside > 3.0 * before).all()
+
+
 def test_an_unmodelled_compass_bias_makes_the_filter_optimistic() -> None:
     # The same check with a 3 deg compass bias that the filter does not estimate: the heading error is far larger
     # than the filter believes, and the time-averaged NEES leaves the chi-square region above

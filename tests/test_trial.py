@@ -174,6 +174,11 @@ def test_power_is_the_actuator_disc_figure_in_calm_water() -> None:
     power = thrust * (v_a + v_i) / POWER_EFFICIENCY
     recorded = res.timeseries["power_w"].sel(trial=0).values[-10:]
     np.testing.assert_allclose(recorded, power, rtol=0.01)
+    # steady surge: the actuators' surge force balances the hull resistance, tau_X = -(X_u u + X_uu u|u|)
+    # (Fossen 2021, the surge equation at constant speed); yaw moment ~0 on a straight leg in calm water
+    act = res.timeseries["act_surge_n"].sel(trial=0).values[-10:]
+    np.testing.assert_allclose(act, -(h.x_u * u + h.x_uu * u * u), rtol=0.01)
+    assert np.all(np.abs(res.timeseries["act_yaw_nm"].sel(trial=0).values[-10:]) < 0.01 * act.mean())
     assert res.metrics["speed_err_rms_mps"][0] < 0.01
     assert res.metrics["xte_max_m"][0] < 1e-6
 

@@ -42,7 +42,8 @@ _POS = Bounds(gt=0.0)
 SIGNAL_NAMES = (
     "north_m", "east_m", "heading_deg", "surge_mps", "sway_mps", "yaw_rate_dps",
     "xte_m", "heading_cmd_deg", "speed_cmd_mps", "power_w",
-    "nav_north_m", "nav_east_m", "nav_err_m", "nees", "nis", "fix_ok",
+    "nav_north_m", "nav_east_m", "nav_err_m", "nees", "nis", "fix_ok", "nav_drms_m",
+    "act_surge_n", "act_yaw_nm",
 )  # fmt: skip
 _ANGLE = Bounds(ge=-360.0, le=360.0)
 _ANY = Bounds()

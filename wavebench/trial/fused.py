@@ -197,6 +197,8 @@ def _run_block(
                 rec[7, i, j] = np.degrees(hd)
                 rec[8, i, j] = ud
                 rec[9, i, j] = power
+                rec[17, i, j] = out[i, OUT_TAU]
+                rec[18, i, j] = out[i, OUT_TAU + 2]
                 if nav_on:
                     rec[10, i, j] = en
                     rec[11, i, j] = ee
@@ -204,6 +206,7 @@ def _run_block(
                     rec[13, i, j] = diag[i, nk.D_NEES]
                     rec[14, i, j] = diag[i, nk.D_NIS]
                     rec[15, i, j] = diag[i, nk.D_FIX_OK]
+                    rec[16, i, j] = np.sqrt(nP[i, 0, 0] + nP[i, 1, 1])
             px, py = x, y
             pu, pv, ppsi = u, v, psi
             x, y, psi, u, v, r, p_w = advance_trial(

@@ -256,6 +256,7 @@ def run_batch(
         leg = np.clip(gout.leg, 0, setup.line_legs.shape[1] - 1)
         on_line = active & setup.line_legs[rows, leg] & (gout.along_track_m >= setup.line_run_in_m)
         acc.sample_line(tick, on_line, xte_true)
+        act_tau = tau.copy()  # the actuators' share, before wind (recorded)
         if wind_tab is not None:
             v_rw, gamma = relative_wind(
                 nu[:, 0], nu[:, 1], eta[:, 2], wind_tab[:, tick], env.wind.state.direction_from_rad
@@ -274,6 +275,7 @@ def run_batch(
                 "surge_mps": nu[:, 0], "sway_mps": nu[:, 1], "yaw_rate_dps": np.degrees(nu[:, 2]),
                 "xte_m": xte_true, "heading_cmd_deg": np.degrees(gout.heading_d_rad),
                 "speed_cmd_mps": gout.speed_d_mps, "power_w": power, **_nav_record(navigator, eta),
+                "act_surge_n": act_tau[:, 0], "act_yaw_nm": act_tau[:, 2],
             })  # fmt: skip
         prev = eta[:, :2].copy()
         eta_prev, nu_prev = eta, nu
@@ -318,11 +320,13 @@ def _nav_record(navigator: NavRun | None, eta: FloatArray) -> dict[str, FloatArr
     n = eta.shape[0]
     if navigator is None:
         nan = np.full(n, np.nan)
-        return {"nav_north_m": nan, "nav_east_m": nan, "nav_err_m": nan, "nees": nan, "nis": nan, "fix_ok": nan}
-    x, d = navigator.x, navigator.diag
+        return {"nav_north_m": nan, "nav_east_m": nan, "nav_err_m": nan, "nees": nan, "nis": nan, "fix_ok": nan,
+                "nav_drms_m": nan}  # fmt: skip
+    x, d, p = navigator.x, navigator.diag, navigator.P
     err = np.hypot(x[:, 0] - eta[:, 0], x[:, 1] - eta[:, 1])
     return {"nav_north_m": x[:, 0], "nav_east_m": x[:, 1], "nav_err_m": err, "nees": d[:, nk.D_NEES],
-            "nis": d[:, nk.D_NIS], "fix_ok": d[:, nk.D_FIX_OK]}  # fmt: skip
+            "nis": d[:, nk.D_NIS], "fix_ok": d[:, nk.D_FIX_OK],
+            "nav_drms_m": np.sqrt(p[:, 0, 0] + p[:, 1, 1])}  # fmt: skip
 
 
 def outage_end_ticks(windows: tuple, period: float, n_ticks: int) -> NDArray[np.int64]:

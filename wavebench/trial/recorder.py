@@ -34,6 +34,9 @@ SIGNALS: dict[str, tuple[str, str]] = {
     "nees": ("1", "normalised estimation error squared of [north, east, heading, surge, sway] (5 dof)"),
     "nis": ("1", "normalised innovation squared of the latest GNSS fix (2 dof; NaN before the first)"),
     "fix_ok": ("1", "1 when the latest GNSS fix was accepted by the navigator, 0 when lost or rejected"),
+    "nav_drms_m": ("m", "navigator's own horizontal accuracy, DRMS = sqrt(P_nn + P_ee) (NaN with truth navigation)"),
+    "act_surge_n": ("N", "surge force from the actuators (without wind)"),
+    "act_yaw_nm": ("N m", "yaw moment from the actuators (without wind)"),
 }
 
 #: Degrees of freedom of the recorded ``nees`` and ``nis`` signals.
