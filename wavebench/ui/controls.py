@@ -457,8 +457,9 @@ class FieldControl:
             self._shown = copy.deepcopy(value)
             if self.kind == "number":
                 if isinstance(value, Mapping):
+                    if self.dist_widget is None:
+                        return  # not a value this control can show (a refused set_value)
                     mode = "distribution"
-                    assert self.dist_widget is not None
                     self.dist_widget.value = toml_literal(value)
                     self._show_number(_representative_data(value, self.name))
                 elif value is None:
@@ -492,6 +493,8 @@ class FieldControl:
             self.value_widget.value = value
 
     def _layout_mode(self) -> None:
+        if self.mode_widget is None:
+            return
         mode = self.mode
         self.value_widget.layout.display = None if mode == "value" else "none"
         if self.dist_widget is not None:
@@ -935,12 +938,20 @@ class SpecEditor(Twinned, traitlets.HasTraits):
         if isinstance(raw, ParameterError):
             self._refuse(name, str(raw), source)
             return False
+        control = self._registry.controls.get(name)
+        if control is not None and control.kind == "number" and isinstance(raw, (list, tuple)):
+            # a spec holds one number or a distribution here (per-trial arrays are drawn, not written)
+            self._refuse(name, str(ParameterError(name, raw, "must be a number or a distribution table")), source)
+            return False
         data = copy.deepcopy(self._data)
         _set(data, path, raw)
         try:
             spec = spec_from_data(data)
         except ParameterError as exc:
             self._refuse(name, str(exc), source)
+            return False
+        except (ValueError, TypeError, ArithmeticError) as exc:  # a value the schema's checks did not foresee
+            self._refuse(name, f"{name} = {raw!r} is not allowed: {type(exc).__name__}: {exc}", source)
             return False
         self._accept(spec)
         errors = dict(self.errors)
@@ -965,7 +976,8 @@ class SpecEditor(Twinned, traitlets.HasTraits):
             for control in self._registry.controls.values():
                 value = _get(data, control.path)
                 if value != control._shown:
-                    control.show(value)
+                    with contextlib.suppress(traitlets.TraitError, TypeError, ValueError):
+                        control.show(value)
         self.spec = spec
 
     def read_controls(self) -> Spec:
