@@ -210,3 +210,34 @@ def test_verify_fails_when_the_notebook_holds_no_result(tmp_path, capsys) -> Non
     assert "no saved wavebench result" in capsys.readouterr().out
     assert main(["verify", str(tmp_path / "absent.ipynb")]) == 1
     assert "no such notebook" in capsys.readouterr().out
+
+
+def _saved_with_a_fake_result(tmp_path: Path, source: str) -> Path:
+    """A notebook whose one cell holds a saved result card output, and whose source is ``source``."""
+    import nbformat
+
+    nb = nbformat.v4.new_notebook()
+    nb.metadata["kernelspec"] = {"name": "python3", "display_name": "Python 3", "language": "python"}
+    cell = nbformat.v4.new_code_cell(source)
+    html = "<table><tr data-requirement='r'><td><span class='verdict'>pass</span></td></tr></table>"
+    cell.outputs = [nbformat.v4.new_output("display_data", data={"text/html": html, "text/plain": "card"},
+                                           metadata={"wavebench": {"spec_hash": "a" * 64, "result_hash": "b" * 64,
+                                                                   "trials": 3, "verdicts": {"r": "pass"}}})]  # fmt: skip
+    nb.cells = [cell]
+    path = tmp_path / "fake.ipynb"
+    nbformat.write(nb, path)
+    return path
+
+
+@_with(JUPYTER_WARNINGS)
+def test_verify_fails_when_a_saved_result_is_not_produced_again(tmp_path, capsys) -> None:
+    assert main(["verify", str(_saved_with_a_fake_result(tmp_path, "1 + 1"))]) == 1
+    out = capsys.readouterr().out
+    assert "cell 0: missing — the re-run produced no result in this cell" in out and "NOT verified" in out
+
+
+@_with(JUPYTER_WARNINGS)
+def test_verify_fails_naming_the_cell_when_the_re_run_raises(tmp_path, capsys) -> None:
+    assert main(["verify", str(_saved_with_a_fake_result(tmp_path, "raise RuntimeError('no such spec file')"))]) == 1
+    out = capsys.readouterr().out
+    assert "re-execution failed in cell 0" in out and "RuntimeError: no such spec file" in out

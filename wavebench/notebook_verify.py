@@ -32,6 +32,8 @@ __all__ = ["SavedResult", "VerifyReport", "collect_results", "html_verdicts", "v
 
 #: A verdict badge of the result card: its visible word.
 _BADGE = re.compile(r"<span\b[^>]*\bclass=['\"]verdict['\"][^>]*>(.*?)</span>", re.DOTALL)
+#: Terminal colour codes in tracebacks.
+_ANSI = re.compile(r"\x1b\[[0-9;]*m")
 #: The requirement name of a row of the result card.
 _ROW = re.compile(r"<tr\b[^>]*\bdata-requirement=['\"]([^'\"]*)['\"][^>]*>(.*?)</tr>", re.DOTALL)
 
@@ -202,6 +204,12 @@ def verify_notebook(path: str | os.PathLike[str], *, timeout: float = 600.0, ker
     lines = [f"{nb_path}: {len(saved)} saved result{'s' if len(saved) != 1 else ''}; re-executing a copy ..."]
     run = nbformat.from_dict(nb)
     name = kernel_name or (nb.get("metadata", {}).get("kernelspec", {}) or {}).get("name") or "python3"
+    if kernel_name is None and name != "python3":
+        from jupyter_client.kernelspec import KernelSpecManager
+
+        if name not in KernelSpecManager().find_kernel_specs():
+            lines.append(f"kernel '{name}' of the notebook is not installed here: using python3 (this Python)")
+            name = "python3"
     client = NotebookClient(run, timeout=timeout, kernel_name=name,
                             resources={"metadata": {"path": str(nb_path.resolve().parent)}})  # fmt: skip
     try:
@@ -210,10 +218,14 @@ def verify_notebook(path: str | os.PathLike[str], *, timeout: float = 600.0, ker
         lines.append(f"re-execution timed out (a cell ran longer than {timeout:g} s): {str(exc).splitlines()[0]}")
         return VerifyReport(lines, saved, [], False)
     except CellExecutionError as exc:
-        cell = next((k for k, c in enumerate(run.cells) if any(o.get("output_type") == "error"
-                                                               for o in c.get("outputs", []))), None)  # fmt: skip
-        detail = str(exc).strip().splitlines()[-1] if str(exc).strip() else type(exc).__name__
-        lines.append(f"re-execution failed{f' in cell {cell}' if cell is not None else ''}: {detail}")
+        failed = [(k, o) for k, c in enumerate(run.cells) for o in c.get("outputs", [])
+                  if o.get("output_type") == "error"]  # fmt: skip
+        if failed:
+            k, err = failed[0]
+            lines.append(f"re-execution failed in cell {k}: {err.get('ename', 'Error')}: {err.get('evalue', '')}")
+        else:
+            text = _ANSI.sub("", str(exc)).strip()
+            lines.append(f"re-execution failed: {text.splitlines()[-1] if text else type(exc).__name__}")
         return VerifyReport(lines, saved, collect_results(run), False)
     recomputed = collect_results(run)
     by_place = {(r.cell, r.output): r for r in recomputed}
