@@ -325,3 +325,16 @@ def test_kind_switch_needing_several_fields_goes_through_the_tables_toml() -> No
     message = editor.errors["seabed"]
     assert message == _loader_message(editor.spec, "seabed.depth_m", -1.0)
     assert editor.section("seabed").error_label.value == message and spec_hash(editor.spec) == before
+
+
+@pytest.mark.parametrize("value", [None, -1, "x", True, [1.0], [[1, 2], "x"], {"a": 1}, {"choice": []}, {}, [], 1e300])
+def test_no_exception_escapes_for_odd_values(value: Any) -> None:
+    editor = _editor("brannock_bridge", tables=("scenario", "sea", "campaign"))
+    for path in list(editor.controls):
+        before = spec_hash(editor.spec)
+        if editor.set_value(path, value):  # accepted: the loader's own verdict on the same change
+            spec_from_data(spec_to_data(editor.spec))
+            editor.set_spec(load_spec(example_spec_path("brannock_bridge")))
+        else:  # refused: the message is beside the control and the spec is unchanged
+            assert editor.errors[path].startswith(path)
+            assert spec_hash(editor.spec) == before

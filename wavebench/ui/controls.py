@@ -947,6 +947,8 @@ class SpecEditor(Twinned, traitlets.HasTraits):
         _set(data, path, raw)
         try:
             spec = spec_from_data(data)
+            # the spec held must survive save and load: validate its own written form once more
+            spec_from_data(spec_to_data(spec))
         except ParameterError as exc:
             self._refuse(name, str(exc), source)
             return False
