@@ -19,7 +19,7 @@ import pandas as pd
 import pytest
 
 from wavebench.campaign import run_campaign
-from wavebench.campaign.fingerprint import canonical_chunks, result_card, result_hash
+from wavebench.campaign.fingerprint import canonical_chunks, part_hashes, result_card, result_hash
 from wavebench.cli import main
 from wavebench.spec import example_spec_path, load_spec
 
@@ -103,6 +103,13 @@ def test_a_changed_metric_or_verdict_or_time_series_changes_the_hash(inline) -> 
     x = ts["xte_m"].values[0, 3]  # float32: the next value up in its own precision
     ts["xte_m"][0, 3] = np.nextafter(x, np.array(np.inf, dtype=x.dtype))
     assert result_hash(inline.metrics, inline.verdicts, ts) != h
+    # the part hashes say which part changed
+    before, after = (
+        part_hashes(inline.metrics, inline.verdicts, inline.timeseries),
+        part_hashes(inline.metrics, inline.verdicts, ts),
+    )
+    assert before["metrics_verdicts"] == after["metrics_verdicts"] == result_hash(inline.metrics, inline.verdicts)
+    assert before["timeseries"] != after["timeseries"]
     # verdicts given as Verdict objects or as their verdicts.json dicts hash alike
     assert result_hash(inline.metrics, [x.to_dict() for x in inline.verdicts], inline.timeseries) == h
 
@@ -183,6 +190,9 @@ def test_verify_fails_naming_the_cell_whose_saved_hash_or_visible_table_was_edit
     # cell 1: one hex digit of the saved result hash changed in the output's metadata
     meta = nb["cells"][1]["outputs"][-1]["metadata"]["wavebench"]
     meta["result_hash"] = ("0" if meta["result_hash"][0] != "0" else "1") + meta["result_hash"][1:]
+    meta["parts"]["timeseries"] = ("0" if meta["parts"]["timeseries"][0] != "0" else "1") + meta["parts"]["timeseries"][
+        1:
+    ]
     # cell 2: the verdict word shown in the HTML table changed, the metadata left alone
     out2 = nb["cells"][2]["outputs"][-1]
     html = "".join(out2["data"]["text/html"])
@@ -195,6 +205,7 @@ def test_verify_fails_naming_the_cell_whose_saved_hash_or_visible_table_was_edit
     assert main(["verify", str(path), "--timeout", "300"]) == 1
     out = capsys.readouterr().out
     assert "cell 1: DIFFERS — result hash saved" in out
+    assert "the parts that differ: timeseries (the same: metrics_verdicts)" in out
     assert "cell 2: DIFFERS — the visible HTML table shows" in out and "its own metadata says" in out
     assert "NOT verified: 0 of 2 saved results reproduce" in out
 

@@ -52,6 +52,8 @@ class SavedResult:
     trials : int or None
     verdicts : dict of str to str
         Requirement name to verdict word, from the metadata.
+    parts : dict of str to str
+        Hashes of the result's parts (metrics and verdicts, time series), when saved.
     shown : dict of str to str or None
         Requirement name to the verdict word visible in the output's
         ``text/html``; None when the output has no HTML.
@@ -64,6 +66,7 @@ class SavedResult:
     trials: int | None
     verdicts: dict[str, str] = field(default_factory=dict)
     shown: dict[str, str] | None = None
+    parts: dict[str, str] = field(default_factory=dict)
 
     @property
     def where(self) -> str:
@@ -110,6 +113,7 @@ def collect_results(nb: Any) -> list[SavedResult]:
                 cell=k, output=j, spec_hash=str(md.get("spec_hash", "")), result_hash=str(md.get("result_hash", "")),
                 trials=md.get("trials"), verdicts={str(a): str(b) for a, b in dict(verdicts).items()},
                 shown=html_verdicts(html_text) if isinstance(html_text, str) else None,
+                parts={str(a): str(b) for a, b in dict(md.get("parts") or {}).items()},
             ))  # fmt: skip
     return found
 
@@ -151,6 +155,12 @@ def _compare(saved: SavedResult, new: SavedResult | None) -> list[str]:
                                                                          new.result_hash)):  # fmt: skip
         if a != b:
             problems.append(f"{saved.where}: DIFFERS — {label} saved {_short(a)} recomputed {_short(b)}")
+    if saved.result_hash != new.result_hash and saved.parts and new.parts:
+        same = [k for k in saved.parts if k in new.parts and saved.parts[k] == new.parts[k]]
+        differ = [k for k in saved.parts if k in new.parts and saved.parts[k] != new.parts[k]]
+        if differ:
+            problems.append(f"{saved.where}:   the parts that differ: {', '.join(differ)}"
+                            + (f" (the same: {', '.join(same)})" if same else ""))  # fmt: skip
     if saved.trials != new.trials:
         problems.append(f"{saved.where}: DIFFERS — trials saved {saved.trials} recomputed {new.trials}")
     if saved.verdicts != new.verdicts:

@@ -35,7 +35,15 @@ from typing import Any
 
 import numpy as np
 
-__all__ = ["CANONICAL_NAN_BITS", "HASH_FORMAT", "ResultCard", "canonical_chunks", "result_card", "result_hash"]
+__all__ = [
+    "CANONICAL_NAN_BITS",
+    "HASH_FORMAT",
+    "ResultCard",
+    "canonical_chunks",
+    "part_hashes",
+    "result_card",
+    "result_hash",
+]
 
 #: Version tag hashed first: a change of the serialisation changes every hash.
 HASH_FORMAT = b"wavebench-result-hash/1\n"
@@ -195,6 +203,11 @@ def canonical_chunks(metrics_frame: Any, verdicts: Sequence[Any], timeseries: An
         yield struct.pack("<Q", len(d))
         for key in sorted(d):
             yield _text(key) + _value(d[key])
+    yield from _series_chunks(timeseries)
+
+
+def _series_chunks(timeseries: Any) -> Iterator[bytes]:
+    """The time-series part of :func:`canonical_chunks`."""
     if timeseries is None:
         yield b"T0"
         return
@@ -241,6 +254,25 @@ def result_hash(metrics_frame: Any, verdicts: Sequence[Any], timeseries: Any = N
     return h.hexdigest()
 
 
+def part_hashes(metrics_frame: Any, verdicts: Sequence[Any], timeseries: Any = None) -> dict[str, str | None]:
+    """Separate hashes of a result's parts, so a difference can be traced to one of them.
+
+    Returns
+    -------
+    dict
+        ``"metrics_verdicts"``: :func:`result_hash` without the time series;
+        ``"timeseries"``: SHA-256 of the format tag and the time-series part
+        of :func:`canonical_chunks` (None when there is no time series).
+    """
+    series = None
+    if timeseries is not None:
+        h = hashlib.sha256(HASH_FORMAT)
+        for chunk in _series_chunks(timeseries):
+            h.update(chunk)
+        series = h.hexdigest()
+    return {"metrics_verdicts": result_hash(metrics_frame, verdicts), "timeseries": series}
+
+
 # ---------------------------------------------------------------------------
 # the card
 # ---------------------------------------------------------------------------
@@ -277,6 +309,9 @@ class ResultCard:
         The verdicts (``Verdict.to_dict()``), in requirement order.
     complete : bool
         False when the campaign was interrupted.
+    parts : dict, optional
+        :func:`part_hashes` of the result, so ``wavebench verify`` can say
+        whether the metrics and verdicts or the time series differ.
     """
 
     scenario: str
@@ -285,6 +320,7 @@ class ResultCard:
     trials: int
     verdicts: tuple[dict[str, Any], ...]
     complete: bool = True
+    parts: dict[str, str | None] | None = None
 
     def metadata(self) -> dict[str, Any]:
         """The ``{"wavebench": {...}}`` output metadata that ``wavebench verify`` reads."""
@@ -294,6 +330,7 @@ class ResultCard:
                 "result_hash": self.result_hash,
                 "trials": int(self.trials),
                 "verdicts": {str(v["name"]): str(v["verdict"]) for v in self.verdicts},
+                **({"parts": dict(self.parts)} if self.parts is not None else {}),
             }
         }
 
@@ -394,4 +431,5 @@ def result_card(result: Any, *, timeseries: bool = True) -> ResultCard:
         trials=len(result.metrics),
         verdicts=tuple(_verdict_dicts(result.verdicts)),
         complete=bool(result.complete),
+        parts=part_hashes(result.metrics, result.verdicts, ts),
     )
