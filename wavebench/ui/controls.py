@@ -23,11 +23,18 @@ field declaration                      control
 ``named_tables``                       a section holding one section per name
 =====================================  ==============================================
 
-A field that may be absent (default ``None``) also offers "absent".
+A field that may be absent (default ``None``) also offers "absent"; an
+optional table offers "add" and "remove". Every table section, and the
+whole spec, can also be edited as TOML text ("edit as TOML"): the way to
+change several fields at once where one alone would be refused (a
+``kind`` and the fields that kind needs). Sections are built when first
+opened, so a large spec opens quickly.
 
 Every change builds a *new* spec through the real loader: the spec's plain
 data (:func:`~wavebench.spec.schema.spec_to_data`) with the changed value is
-validated by :func:`~wavebench.spec.schema.spec_from_data`. A value the
+validated by :func:`~wavebench.spec.schema.spec_from_data` (and once more
+from the new spec's own written form, so what the editor holds also saves
+and loads). A value the
 loader refuses leaves the last valid spec in place and shows the
 :class:`~wavebench.core.errors.ParameterError` message (field, value and
 what is allowed) beside the control; no exception reaches the notebook.
