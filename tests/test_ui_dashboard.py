@@ -55,6 +55,12 @@ def store(tmp_path_factory: pytest.TempPathFactory) -> Path:
 
 
 @pytest.fixture(scope="module")
+def short_reference() -> object:
+    """The 20 s campaign run plainly, without a panel."""
+    return run_campaign(_short_spec(duration_s=20.0), progress=False)
+
+
+@pytest.fixture(scope="module")
 def dash(store: Path) -> CampaignDashboard:
     return CampaignDashboard.from_store(store)
 
@@ -144,17 +150,24 @@ def test_static_twin_holds_the_verdicts_and_svg_charts_and_no_script(store: Path
     page = dash._repr_mimebundle_()["text/html"]
     assert TWIN_CLASS in page
     assert page.count("<svg") >= 5
-    assert 'class="operability-polar"' in page or 'class="cell"' in page  # report/study.py's operability chart
+    assert 'class="operability-polar"' in page  # report/study.py's operability chart
+    # the panel shows the study module's chart of the picked requirement (operability_of on the store's metrics)
+    from wavebench.report.study import operability_of, operability_polar_chart
+
+    req = dash.requirement(dash.requirement_picker.value)
+    op = operability_of(read_store(store)["metrics"], dash.spec, req)
+    assert op is not None and int(op.count.sum()) + op.n_left_out == len(dash.metrics)
+    assert operability_polar_chart(op, title=f"{req.name}: share meeting {req.text()}",
+                                   required=req.probability) in dash.operability_html.value  # fmt: skip
     assert "<script" not in page.lower()
     for v in stored:
         assert f'data-requirement="{v["name"]}" data-verdict="{v["verdict"]}"' in page
         assert f">{v['verdict']}</span>" in page
 
 
-def test_run_feeds_the_progress_bar_per_chunk_and_gives_the_same_bits(monkeypatch: pytest.MonkeyPatch) -> None:
-    spec = _short_spec(duration_s=20.0)
+def _watch_progress(monkeypatch: pytest.MonkeyPatch) -> list[int]:
+    """Every value the progress bar of the next dashboard takes, in order."""
     seen: list[int] = []
-    reference = run_campaign(spec, progress=False)
     original = CampaignDashboard.__init__
 
     def watched(self: CampaignDashboard, *args: object, **kwargs: object) -> None:
@@ -162,13 +175,72 @@ def test_run_feeds_the_progress_bar_per_chunk_and_gives_the_same_bits(monkeypatc
         self.progress.observe(lambda c: seen.append(int(c["new"])), names="value")
 
     monkeypatch.setattr(CampaignDashboard, "__init__", watched)
-    d = CampaignDashboard.run(spec, display=False)
-    # one step per finished chunk of batch_size = 4, then the finished panel
-    assert seen[:2] == [4, 8]
+    return seen
+
+
+def _changes(values: list[int], start: int = 0) -> list[int]:
+    """The values that differ from the one before (a trait reports changes only)."""
+    out, last = [], start
+    for v in values:
+        if v != last:
+            out.append(v)
+        last = v
+    return out
+
+
+def test_run_feeds_the_progress_bar_from_the_chunk_hook_and_gives_the_same_bits(
+        monkeypatch: pytest.MonkeyPatch, short_reference: object) -> None:  # fmt: skip
+    import numba
+
+    spec = _short_spec(duration_s=20.0)
+    reference = short_reference
+    threads = numba.get_num_threads()
+    seen = _watch_progress(monkeypatch)
+    hook: list[tuple[bool, int, int]] = []
+    d = CampaignDashboard.run(spec, display=False,
+                              on_chunk=lambda out, done, planned: hook.append((out is None, done, planned)))  # fmt: skip
+    # run_campaign's on_chunk: once first with no output and nothing read back, then after each chunk of 4
+    assert hook == [(True, 0, TRIALS), (False, 4, TRIALS), (False, 8, TRIALS)]
+    # the bar took exactly the hook's values, in order (the finished panel keeps the last)
+    assert seen == _changes([done for _, done, _ in hook])
     assert d.progress.value == d.progress.max == TRIALS
+    assert numba.get_num_threads() == threads  # the inline chunks ran in this process with its numba threads
     pd.testing.assert_frame_equal(d.metrics, reference.metrics)
     assert [v["verdict"] for v in d.verdicts] == [v.verdict for v in reference.verdicts]
     assert "<svg" in d.static_html()
+
+
+def test_a_resumed_store_run_starts_the_bar_at_the_trials_read_back(
+        tmp_path: Path, monkeypatch: pytest.MonkeyPatch, short_reference: object) -> None:  # fmt: skip
+    from wavebench.campaign import chunks as chunk_files
+
+    spec = _short_spec(duration_s=20.0)
+    folder = tmp_path / "resumed"
+    real, calls = chunk_files.write_chunk, {"n": 0}
+
+    def fail_second_write(where: object, out: object) -> None:
+        calls["n"] += 1
+        if calls["n"] == 2:
+            raise OSError(28, "No space left on device")
+        real(where, out)
+
+    monkeypatch.setattr(chunk_files, "write_chunk", fail_second_write)
+    with pytest.raises(OSError, match="No space left"):
+        run_campaign(spec, progress=False, store=folder)
+    monkeypatch.setattr(chunk_files, "write_chunk", real)
+    kept = len(pd.read_parquet(sorted((folder / "chunks").glob("metrics-*.parquet"))[0]))  # pyarrow reader
+    assert kept == 4  # the first chunk of batch_size = 4 was stored before the failing write
+
+    seen = _watch_progress(monkeypatch)
+    hook: list[tuple[bool, int, int]] = []
+    d = CampaignDashboard.run(spec, display=False, store=folder, resume=True,
+                              on_chunk=lambda out, done, planned: hook.append((out is None, done, planned)))  # fmt: skip
+    assert hook[0] == (True, kept, TRIALS)  # read back from the store, before any chunk runs
+    assert seen[0] == kept  # the bar's first value: the resumed trials counted at once
+    assert seen == _changes([done for _, done, _ in hook])
+    assert d.progress.value == TRIALS and d.progress.bar_style == "success"
+    # resumed to the same bits as the uninterrupted run
+    pd.testing.assert_frame_equal(d.metrics, short_reference.metrics, check_exact=True, check_dtype=False)
 
 
 def test_the_panel_state_serialises_as_jupyter_widget_state(dash: CampaignDashboard) -> None:

@@ -14,8 +14,9 @@ progress bar fed per finished chunk and fills in when it is done:
   trial in a :class:`~wavebench.ui.player.TrialPlayer` below;
 - the drawn inputs ranked by their rank correlation with the requirement's
   metric (:mod:`wavebench.analysis.sensitivity`);
-- the operability matrix of :mod:`wavebench.report.study` (share meeting the
-  requirement per wave direction and Hs bin), when the trials drew both.
+- the operability chart of :mod:`wavebench.report.study` (share meeting the
+  requirement per wave heading relative to the route's course and Hs), when
+  the trials drew the wave direction (and Hs, unless it is fixed).
 
 The plots show statistics, never one line per trial: the bands are
 percentiles computed in numpy, at most :data:`MAX_SAMPLE_TRIALS` trials are
@@ -30,7 +31,7 @@ import html
 import math
 import os
 import threading
-from collections.abc import Callable, Iterable, Iterator, Sequence
+from collections.abc import Iterable, Sequence
 from typing import Any
 
 import numpy as np
@@ -39,10 +40,10 @@ from numpy.typing import NDArray
 
 from ..core.errors import ParameterError
 from ..report.campaign import MAIN_METRICS, nan_percentiles
-from ..report.charts import _Axes, band_chart, histogram_chart, histogram_counts, share_matrix_chart, signed_bar_chart
+from ..report.charts import _Axes, band_chart, histogram_chart, histogram_counts, signed_bar_chart
 from ..report.html import cell_number, escape
 from ..report.navigation import NAV_METRICS
-from ..report.study import DIRECTION_COLUMN, HS_COLUMN, MIN_CELL_TRIALS, Requirement, meets, operability
+from ..report.study import DIRECTION_COLUMN, HS_COLUMN, MIN_CELL_TRIALS, Requirement, meets
 from ..report.svg import PALETTE, Series, Svg, line_chart
 from .twin import Twinned
 
@@ -189,32 +190,6 @@ class Band:
         self.samples = values[pick] if n else np.zeros((0, time_s.size))
 
 
-class _CountingMap:
-    """An executor for :func:`~wavebench.campaign.executor.run_campaign` that reports each finished chunk.
-
-    It opens the named (or given) executor and passes its results through,
-    calling ``on_chunk(output)`` for each, in the main process.
-    """
-
-    def __init__(self, inner: Any, on_chunk: Callable[[Any], Any], *, workers: int | None = None,
-                 scheduler: str | None = None) -> None:  # fmt: skip
-        self.inner, self.on_chunk, self.workers, self.scheduler = inner, on_chunk, workers, scheduler
-
-    def map(self, fn: Callable[[Any], Any], items: Iterable[Any]) -> Iterator[Any]:
-        import numba
-
-        from ..campaign.executors import open_executor
-
-        threads = numba.get_num_threads()
-        try:
-            with open_executor(self.inner, workers=self.workers, scheduler=self.scheduler) as ex:
-                for out in ex.map(fn, items):
-                    self.on_chunk(out)
-                    yield out
-        finally:
-            numba.set_num_threads(threads)  # an in-process chunk asked for one thread
-
-
 def _verdict_dicts(verdicts: Iterable[Any]) -> list[dict[str, Any]]:
     return [dict(v.to_dict()) if hasattr(v, "to_dict") else dict(v) for v in verdicts]
 
@@ -328,26 +303,29 @@ class CampaignDashboard(Twinned):
 
         Notes
         -----
-        The progress bar counts the trials of each chunk as it comes back,
-        through an executor wrapper that passes the chosen executor's results
-        on unchanged; results are the same bits as without it.
+        The progress bar follows ``run_campaign``'s ``on_chunk`` hook: it
+        starts at the trials read back from a store (``resume=True``) and
+        moves after each finished (and stored) chunk, in this process. The
+        chunks run in the chosen executor untouched, so results are the same
+        bits as without the panel. An ``on_chunk`` passed here is called
+        after the panel's.
         """
-        from ..campaign.executor import run_campaign, with_overrides
+        from ..campaign.executor import run_campaign
 
         kw = dict(run_campaign_kwargs)
-        until = kw.get("until")
-        planned = with_overrides(spec, trials=until.max_trials if until is not None else kw.get("trials"))
         dash = cls(spec, store_dir=kw.get("store"))
-        dash.progress.max = int(planned.campaign.trials)
-        dash.status.value = f"0 of {planned.campaign.trials} trials"
+        dash.status.value = "starting"
+        chained = kw.pop("on_chunk", None)
 
-        def on_chunk(out: Any) -> None:
-            dash.progress.value = min(dash.progress.value + int(np.size(out.trials)), dash.progress.max)
-            dash.status.value = f"{dash.progress.value} of {dash.progress.max} trials"
+        def on_chunk(output: Any, done: int, planned: int) -> None:
+            with dash.progress.hold_sync():
+                dash.progress.max = max(int(planned), 1)
+                dash.progress.value = min(int(done), dash.progress.max)
+            dash.status.value = f"{int(done)} of {int(planned)} trials"
+            if chained is not None:
+                chained(output, done, planned)
 
-        inner = kw.pop("executor", None) or spec.campaign.executor
-        kw["executor"] = _CountingMap(inner, on_chunk, workers=kw.pop("workers", None),
-                                      scheduler=kw.pop("scheduler", None))  # fmt: skip
+        kw["on_chunk"] = on_chunk
         kw.setdefault("progress", False)
 
         def job() -> None:
@@ -706,45 +684,32 @@ class CampaignDashboard(Twinned):
         )
 
     def _operability_figures(self, req: Requirement) -> str:
-        """The operability chart and table of :mod:`wavebench.report.study` for one requirement ("" when none)."""
-        from ..report import study
+        """The operability chart of :mod:`wavebench.report.study` for one requirement ("" when there is none).
 
-        m = self.metrics
-        if DIRECTION_COLUMN not in m or HS_COLUMN not in m:
-            return ""
-        d, h, met = self._values(DIRECTION_COLUMN), self._values(HS_COLUMN), self.met(req)
-        if hasattr(study, "route_course") and hasattr(study, "operability_polar_chart"):
-            if self.spec is None:
-                return ""  # the course, and so the relative wave heading, comes from the spec's route
-            course = study.route_course(self.spec.mission.waypoints())
-            sea = getattr(self.spec, "sea", None)
-            levels = {}
-            for key, field in (("direction_levels_deg", getattr(getattr(sea, "spreading", None), "mean_dir_deg", None)),
-                               ("hs_levels_m", getattr(sea, "hs_m", None))):  # fmt: skip
-                if getattr(field, "levels", None) is not None:  # a grid axis
-                    levels[key] = tuple(field.levels)
-            op = operability(d, h, met, course_deg=course.course_deg, **levels)
-            if op is None:
-                return ""
-            need = math.isfinite(req.probability)
-            svg = study.operability_polar_chart(op, min_count=MIN_CELL_TRIALS,
-                                                title=f"{req.name}: share meeting {req.text()}",
-                                                required=req.probability if need else None)  # fmt: skip
-            return (f"<div>{svg}<p style='color:#555;max-width:40em'>Relative wave heading against "
-                    f"{escape(course.text())}.</p></div>")  # fmt: skip
-        op = operability(d, h, met)  # the chart of wave direction x Hs before relative headings
+        See :func:`~wavebench.report.study.operability_of`: share meeting the
+        requirement per relative wave heading (against the spec's route) and Hs.
+        """
+        from ..report.study import operability_of, operability_polar_chart, route_course
+
+        if self.spec is None:
+            return ""  # the course, and so the relative wave heading, comes from the spec's route
+        op = operability_of(self.metrics, self.spec, req)
         if op is None:
             return ""
-        return share_matrix_chart(op.dir_edges, op.hs_edges, op.met, op.count, min_count=MIN_CELL_TRIALS,
-                                  title=f"{req.name}: share meeting {req.text()}",
-                                  xlabel="drawn mean wave direction [deg]", ylabel="drawn Hs [m]")  # fmt: skip
+        need = math.isfinite(req.probability)
+        svg = operability_polar_chart(op, min_count=MIN_CELL_TRIALS, title=f"{req.name}: share meeting {req.text()}",
+                                      required=req.probability if need else None)  # fmt: skip
+        course = route_course(self.spec.mission.waypoints())
+        return (f"<div>{svg}<p style='color:#555;max-width:40em'>Relative wave heading against "
+                f"{escape(course.text())}.</p></div>")  # fmt: skip
 
     def _operability_html(self) -> str:
         req = self.requirement(self.requirement_picker.value)
         svg = self._operability_figures(req) if req is not None else ""
         if not svg:
-            return ("<p style='color:#555'>No operability matrix: it needs a requirement and trials that drew both "
-                    f"<code>{escape(DIRECTION_COLUMN)}</code> and <code>{escape(HS_COLUMN)}</code>.</p>")  # fmt: skip
+            return ("<p style='color:#555'>No operability chart: it needs a requirement, the spec's route and trials "
+                    f"that drew <code>{escape(DIRECTION_COLUMN)}</code> (and <code>{escape(HS_COLUMN)}</code>, unless "
+                    "Hs is fixed).</p>")  # fmt: skip
         return svg
 
     def _update_operability(self) -> None:
