@@ -535,7 +535,9 @@ class EnvironmentPanel(Twinned):
     Attributes
     ----------
     editor : SpecEditor
-        The generated controls of the three tables.
+        The generated controls of the three tables; its file row saves and loads
+        the whole spec;
+        ``editor.spec`` is the current valid spec.
     view : EnvironmentView
         What is drawn now.
     map_fig, record_fig : bqplot.Figure

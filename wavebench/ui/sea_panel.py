@@ -204,7 +204,8 @@ class SeaPanel(Twinned):
     Attributes
     ----------
     editor : SpecEditor
-        The generated controls (``editor.spec`` is the current valid spec).
+        The generated controls of ``[sea]``; its file row saves and loads the whole spec;
+        ``editor.spec`` is the current valid spec.
     view : SeaView or None
         What is plotted now.
     spectrum_line, spreading_line, elevation_line : bqplot.Lines
