@@ -169,6 +169,21 @@ def test_a_navigator_run_shows_the_estimated_track_error_and_fix_validity(nav_st
     assert inside.any() and np.all(fix[inside] == 0.0)
     page = p.static_html()
     assert "nav_err_m" in page and "estimated track" in page
+    # the 2DRMS band: 2 x the navigator's own DRMS = 2 sqrt(P_nn + P_ee), as recorded for this trial
+    drms = rec["nav_drms_m"].values[0].astype(float)
+    assert np.isfinite(drms).sum() > 0.9 * drms.size
+    band = p.marks["nav_err.band"]
+    np.testing.assert_array_equal(band.y, 2.0 * drms)
+    np.testing.assert_array_equal(p.marks["nav_err.lines"].y, rec["nav_err_m"].values[0].astype(float))
+    label = band.labels[0]
+    assert "2DRMS" in label and "2DRMS" in page and 'class="band"' in page
+    # the legend's "95-98 %": for a 2-D Gaussian error the circle of radius 2 DRMS holds P(chi2_2 <= 8) = 1 - e^-4
+    # when circular and P(|N(0,1)| <= 2) when all the error lies on one axis (Kaplan & Hegarty, Understanding
+    # GPS/GNSS, 3rd ed. 2017, accuracy measures: 2drms "95 to 98 %"; value from memory, not re-checked), here by scipy
+    from scipy.stats import chi2, norm
+
+    low, high = norm.cdf(2.0) - norm.cdf(-2.0), chi2.cdf(8.0, df=2)
+    assert f"{math.floor(100 * low)}-{math.floor(100 * high)} %" in label
     assert 'class="depth"' not in page and "no seabed in the spec" in page
 
 
@@ -177,7 +192,8 @@ def test_static_twin_holds_svg_and_the_metrics_and_no_script(player: TrialPlayer
     assert "application/vnd.jupyter.widget-view+json" in bundle
     page = bundle["text/html"]
     assert TWIN_CLASS in page
-    assert page.count("<svg") == 1 + len(player.time_figures)
+    # the map, one chart per time plot, and a second for the actuator plot's right axis (yaw moment, another unit)
+    assert page.count("<svg") == 1 + len(player.time_figures) + ("actuator" in player.time_figures)
     assert "<script" not in page.lower()
     assert "xte_p95_m" in page and f"Trial {TRIAL}" in page
     assert f"t = {player.time_s[player.last_index]:g} s" in page
@@ -185,6 +201,23 @@ def test_static_twin_holds_svg_and_the_metrics_and_no_script(player: TrialPlayer
     assert page.count('class="depth"') > 10
     lo, hi = np.nanmin(player.marks["depth"].color), np.nanmax(player.marks["depth"].color)
     assert player.depth_note == f"depth {lo:.1f} to {hi:.1f} m" and player.depth_note in page
+
+
+def test_the_actuator_plot_is_the_recorded_surge_force_and_yaw_moment(store: Path, player: TrialPlayer) -> None:
+    ts = read_store(store)["timeseries"].sel(trial=TRIAL)
+    rec = player.replay.record
+    surge, yaw = player.marks["actuator.lines"], player.marks["actuator.right"]
+    for mark, name in ((surge, "act_surge_n"), (yaw, "act_yaw_nm")):
+        y = np.asarray(mark.y, dtype=float)
+        np.testing.assert_array_equal(y, rec[name].values[0].astype(float), err_msg=name)  # the replayed record
+        np.testing.assert_array_equal(y, np.asarray(ts[name].values, dtype=float), err_msg=name)  # the stored bits
+        assert np.isfinite(y).any()
+    # each on its own axis, labelled with the unit the record carries (CF "units" attribute)
+    axes = {a.side: a.label for a in player.time_figures["actuator"].axes if a.side in ("left", "right")}
+    assert axes == {"left": f"act_surge_n [{ts['act_surge_n'].attrs['units']}]",
+                    "right": f"act_yaw_nm [{ts['act_yaw_nm'].attrs['units']}]"}  # fmt: skip
+    assert ts["act_surge_n"].attrs["units"] == "N" and ts["act_yaw_nm"].attrs["units"] == "N m"  # SI: force, moment
+    assert "not recorded" not in player.widget.children[0].value
 
 
 def test_follow_the_craft_centres_the_map_on_it(player: TrialPlayer) -> None:

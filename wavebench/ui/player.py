@@ -10,8 +10,9 @@
 - a time slider with a play control;
 - time plots sharing the time axis and a time cursor: cross-track error,
   heading and heading command, surge speed and speed command, the
-  navigation error, and whether the latest GNSS fix was accepted (the last
-  two only when a navigator ran).
+  actuators' surge force and yaw moment, the navigation error with the
+  navigator's own 2DRMS radius, and whether the latest GNSS fix was accepted
+  (the last two only when a navigator ran).
 
 Moving the slider moves the craft and the cursors in one batch of updates;
 arrays go to the browser as numpy arrays (binary buffers). The static twin
@@ -71,6 +72,7 @@ _NAV_COLOR = PALETTE[1]
 _CRAFT_COLOR = "#222222"
 _CURSOR_COLOR = "#b3261e"
 _DEPTH_COLORS = ("#f4f1e6", "#9dbccb")  # shallow, deep
+_BAND_COLOR = "#8fb7c9"
 
 
 @dataclass(frozen=True)
@@ -88,6 +90,12 @@ class TimePlot:
         Recorded signals (:data:`wavebench.trial.recorder.SIGNALS`) drawn as lines.
     navigator_only : bool
         Shown only when a navigator ran (the signals are NaN with truth navigation).
+    band : (signal name, factor, legend text), optional
+        An area from 0 up to ``factor`` times a recorded signal, under the lines.
+    right : tuple of (signal name, legend text)
+        Recorded signals drawn against a second y axis on the right (another unit).
+    right_ylabel : str
+        That axis' label, with the unit.
     """
 
     key: str
@@ -95,6 +103,9 @@ class TimePlot:
     ylabel: str
     signals: tuple[tuple[str, str], ...]
     navigator_only: bool = False
+    band: tuple[str, float, str] | None = None
+    right: tuple[tuple[str, str], ...] = ()
+    right_ylabel: str = ""
 
 
 #: The time plots, top to bottom.
@@ -102,8 +113,11 @@ TIME_PLOTS: tuple[TimePlot, ...] = (
     TimePlot("xte", "Cross-track error", "xte_m [m], + starboard", (("xte_m", "cross-track error"),)),
     TimePlot("heading", "Heading", "[deg]", (("heading_deg", "heading"), ("heading_cmd_deg", "heading command"))),
     TimePlot("speed", "Surge speed", "[m/s]", (("surge_mps", "surge"), ("speed_cmd_mps", "speed command"))),
-    TimePlot("nav_err", "Navigation error", "nav_err_m [m]", (("nav_err_m", "|estimate - truth|"),),
-             navigator_only=True),
+    TimePlot("actuator", "Actuators (without wind)", "act_surge_n [N]", (("act_surge_n", "surge force"),),
+             right=(("act_yaw_nm", "yaw moment"),), right_ylabel="act_yaw_nm [N m]"),
+    TimePlot("nav_err", "Navigation error and the navigator's 2DRMS", "nav_err_m [m]",
+             (("nav_err_m", "|estimate - truth|"),), navigator_only=True,
+             band=("nav_drms_m", 2.0, "2DRMS: navigator's own 95-98 % radius")),
     TimePlot("fix_ok", "GNSS fix accepted", "fix_ok [1 / 0]", (("fix_ok", "latest fix accepted"),),
              navigator_only=True),
 )  # fmt: skip
@@ -425,14 +439,24 @@ class TrialPlayer(Twinned):
         return [p for p in TIME_PLOTS if (self.has_navigator or not p.navigator_only)
                 and any(_finite(self.signals.get(s, np.nan)) for s, _ in p.signals)]  # fmt: skip
 
-    def _series(self, plot: TimePlot) -> list[tuple[str, FloatArray]]:
+    def _series(self, plot: TimePlot, *, right: bool = False) -> list[tuple[str, FloatArray]]:
+        """The plot's recorded lines (those with finite values) as (legend, values); ``right``: its right axis'."""
         out = []
-        for name, label in plot.signals:
+        for name, label in plot.right if right else plot.signals:
             if name not in self.signals or not _finite(self.signals[name]):
                 continue
             y = self.signals[name]
             out.append((label, _unwrap_deg(y) if name.endswith("_deg") else y))
         return out
+
+    def band(self, key: str) -> FloatArray | None:
+        """The upper edge of a time plot's band (``factor`` x its signal, e.g. the 2DRMS radius [m]), or None."""
+        plot = next((p for p in TIME_PLOTS if p.key == key), None)
+        if plot is None or plot.band is None:
+            return None
+        name, factor, _ = plot.band
+        y = self.signals.get(name)
+        return factor * y if y is not None and _finite(y) else None
 
     def _build(self) -> None:
         import bqplot as bq
@@ -483,22 +507,39 @@ class TrialPlayer(Twinned):
         ts = bq.LinearScale(min=float(t[0]), max=float(t[-1]) if t[-1] > t[0] else float(t[0]) + 1.0)
         unit = bq.LinearScale(min=0.0, max=1.0)
         for k, plot in enumerate(self._plots()):
-            series = self._series(plot)
-            ysc = bq.LinearScale()
+            series, right = self._series(plot), self._series(plot, right=True)
+            band = self.band(plot.key)
+            ysc = bq.LinearScale(min=0.0) if band is not None else bq.LinearScale()
             if plot.key == "fix_ok":
                 ysc = bq.LinearScale(min=-0.1, max=1.1)
-            colors = [PALETTE[(k + j) % len(PALETTE)] for j in range(len(series))]
-            lines = bq.Lines(x=t, y=np.vstack([y for _, y in series]), scales={"x": ts, "y": ysc}, colors=colors,
-                             labels=[label for label, _ in series], display_legend=len(series) > 1,
+            colors = [PALETTE[(k + j) % len(PALETTE)] for j in range(len(series) + len(right))]
+            legend = len(series) + len(right) + (band is not None) > 1
+            lines = bq.Lines(x=t, y=np.vstack([y for _, y in series]), scales={"x": ts, "y": ysc},
+                             colors=colors[: len(series)], labels=[label for label, _ in series],
+                             display_legend=legend,
                              interpolation="step-after" if plot.key == "fix_ok" else "linear")  # fmt: skip
             cursor = bq.Lines(x=np.array([t[0], t[0]]), y=np.array([0.0, 1.0]), scales={"x": ts, "y": unit},
                               colors=[_CURSOR_COLOR], stroke_width=1.5)  # fmt: skip
+            marks, axes = [lines, cursor], [bq.Axis(scale=ts, label="time [s]"),
+                                            bq.Axis(scale=ysc, label=plot.ylabel, side="left")]  # fmt: skip
+            if band is not None and plot.band is not None:  # filled from the line down to the axis' 0
+                self.marks[f"{plot.key}.band"] = bq.Lines(x=t, y=band, scales={"x": ts, "y": ysc}, fill="bottom",
+                                                          colors=[_BAND_COLOR], fill_colors=[_BAND_COLOR],
+                                                          fill_opacities=[0.25], stroke_width=0.8,
+                                                          labels=[plot.band[2]], display_legend=True)  # fmt: skip
+                marks.insert(0, self.marks[f"{plot.key}.band"])
+            if right:
+                rsc = bq.LinearScale()
+                self.marks[f"{plot.key}.right"] = bq.Lines(x=t, y=np.vstack([y for _, y in right]),
+                                                           scales={"x": ts, "y": rsc}, colors=colors[len(series):],
+                                                           labels=[label for label, _ in right],
+                                                           display_legend=True)  # fmt: skip
+                marks.insert(-1, self.marks[f"{plot.key}.right"])
+                axes.append(bq.Axis(scale=rsc, label=plot.right_ylabel, side="right", label_offset="45px"))
             self.marks[f"{plot.key}.lines"] = lines
             self.marks[f"cursor.{plot.key}"] = cursor
-            fig = bq.Figure(marks=[lines, cursor], title=plot.title,
-                            axes=[bq.Axis(scale=ts, label="time [s]"),
-                                  bq.Axis(scale=ysc, label=plot.ylabel, side="left")],
-                            fig_margin=dict(top=30, bottom=40, left=60, right=20),
+            fig = bq.Figure(marks=marks, title=plot.title, axes=axes,
+                            fig_margin=dict(top=30, bottom=40, left=60, right=70 if right else 20),
                             layout=w.Layout(width="560px", height="170px"))  # fmt: skip
             self.time_figures[plot.key] = fig
         n = t.size
@@ -510,11 +551,9 @@ class TrialPlayer(Twinned):
         self.follow = w.Checkbox(value=False, description="follow the craft", indent=False)
         self.follow.observe(lambda _c: self.show(self.index), names="value")
         self.slider.observe(self._on_slider, names="value")
-        notes = []
-        if not self.has_navigator:
-            notes.append("truth navigation: no estimated track, navigation error or fix validity")
-        notes.append("thrust and rudder commands are not recorded; the heading and speed commands are shown")
-        header = w.HTML(f"<b>{escape(self.title)}</b><br><span style='color:#555'>{escape('; '.join(notes))}.</span>")
+        note = ("" if self.has_navigator else "<br><span style='color:#555'>truth navigation: no estimated track, "
+                "navigation error or fix validity.</span>")  # fmt: skip
+        header = w.HTML(f"<b>{escape(self.title)}</b>{note}")
         self.metrics_html = w.HTML(self._metrics_table())
         controls = w.HBox([self.play, self.slider, self.time_label, self.follow])
         self.widget = w.VBox([
@@ -616,21 +655,41 @@ class TrialPlayer(Twinned):
         return map_chart(series, depth=depth, xlim=(e0, e1), ylim=(n0, n1), title=f"Trial {self.trial}: map")
 
     def time_svgs(self, index: int | None = None) -> list[str]:
-        """The time plots as SVG, with the cursor at sample ``index`` (the last recorded one by default)."""
+        """The time plots as SVG, with the cursor at sample ``index`` (the last recorded one by default).
+
+        A plot with a right axis is drawn as two charts, one per unit; a band
+        is filled from 0 up to its edge under the lines.
+        """
+        from ..report.charts import band_chart
+
         i = self.last_index if index is None else int(index)
         t_now = float(self.time_s[i])
         out = []
         for k, plot in enumerate(self._plots()):
-            series = [Series(self.time_s, y, label, color=PALETTE[(k + j) % len(PALETTE)])
-                      for j, (label, y) in enumerate(self._series(plot))]  # fmt: skip
-            vals = np.concatenate([np.asarray(s.y)[np.isfinite(s.y)] for s in series])
-            lo, hi = (float(vals.min()), float(vals.max())) if vals.size else (0.0, 1.0)
-            if plot.key == "fix_ok":
-                lo, hi = -0.1, 1.1
-            pad = 0.05 * (hi - lo) if hi > lo else 0.5
-            series.append(Series([t_now, t_now], [lo - pad, hi + pad], "", color=_CURSOR_COLOR, width=1.2))
-            out.append(line_chart(series, title=plot.title, xlabel="time [s]", ylabel=plot.ylabel, width=560,
-                                  height=200, ylim=(lo - pad, hi + pad)))  # fmt: skip
+            left, right = self._series(plot), self._series(plot, right=True)
+            colors = [PALETTE[(k + j) % len(PALETTE)] for j in range(len(left) + len(right))]
+            parts = [(plot.ylabel, left, colors[: len(left)])]
+            if right:
+                parts.append((plot.right_ylabel, right, colors[len(left):]))
+            band = self.band(plot.key)
+            for ylabel, lines, cols in parts:
+                series = [Series(self.time_s, y, label, color=c) for (label, y), c in zip(lines, cols, strict=True)]
+                vals = np.concatenate([np.asarray(s.y)[np.isfinite(s.y)] for s in series]
+                                      + ([band[np.isfinite(band)], [0.0]] if band is not None else []))  # fmt: skip
+                lo, hi = (float(vals.min()), float(vals.max())) if vals.size else (0.0, 1.0)
+                if plot.key == "fix_ok":
+                    lo, hi = -0.1, 1.1
+                pad = 0.05 * (hi - lo) if hi > lo else 0.5
+                ylim = (0.0 if band is not None else lo - pad, hi + pad)
+                series.append(Series([t_now, t_now], list(ylim), "", color=_CURSOR_COLOR, width=1.2))
+                title = plot.title if not right else f"{plot.title}: {', '.join(label for label, _ in lines)}"
+                if band is not None and plot.band is not None:
+                    out.append(band_chart(self.time_s, [(np.zeros_like(band), band, plot.band[2], _BAND_COLOR)],
+                                          series, title=title, xlabel="time [s]", ylabel=ylabel, width=560,
+                                          height=200, ylim=ylim))  # fmt: skip
+                else:
+                    out.append(line_chart(series, title=title, xlabel="time [s]", ylabel=ylabel, width=560,
+                                          height=200, ylim=ylim))  # fmt: skip
         return out
 
     def static_html(self) -> str:
