@@ -197,7 +197,8 @@ def test_run_feeds_the_progress_bar_from_the_chunk_hook_and_gives_the_same_bits(
     threads = numba.get_num_threads()
     seen = _watch_progress(monkeypatch)
     hook: list[tuple[bool, int, int]] = []
-    d = CampaignDashboard.run(spec, display=False,
+    # a lambda factory (not picklable) runs inline as in run_campaign itself; returning None keeps the spec's guide
+    d = CampaignDashboard.run(spec, display=False, executor="inline", guide_factory=lambda setup: None,
                               on_chunk=lambda out, done, planned: hook.append((out is None, done, planned)))  # fmt: skip
     # run_campaign's on_chunk: once first with no output and nothing read back, then after each chunk of 4
     assert hook == [(True, 0, TRIALS), (False, 4, TRIALS), (False, 8, TRIALS)]

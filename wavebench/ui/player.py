@@ -354,8 +354,10 @@ class TrialPlayer(Twinned):
         One per shown :data:`TIME_PLOTS` entry.
     marks : dict of str to bqplot.Mark
         ``depth``, ``route``, ``true_track``, ``nav_track``, ``craft``
-        (outline), ``craft_marker`` (the position), ``cursor.<plot key>``
-        and ``<plot key>.lines``; only those drawn.
+        (outline), ``craft_marker`` (the position), ``cursor.<plot key>``,
+        ``<plot key>.lines``, ``<plot key>.right`` (lines on a right axis,
+        e.g. ``actuator.right``: the yaw moment) and ``<plot key>.band``
+        (e.g. ``nav_err.band``: the 2DRMS radius); only those drawn.
     """
 
     def __init__(self, spec: Any, trial: int, *, replay: Any = None, stored_metrics: Any = None,
