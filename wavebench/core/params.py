@@ -9,6 +9,12 @@ naming the field, the value and the range.
 A numeric field may hold a scalar or an array with a leading trial axis
 (per-trial parameters, e.g. a dispersed mass); every element is checked.
 
+A whole-number field (``integer=True``) also keeps to the 64-bit signed
+range ``[-2**63, 2**63 - 1]`` (:data:`INT_MIN`, :data:`INT_MAX`), the range
+a TOML file holds losslessly, so a value read from a spec writes back and
+reads again as the same number; a Python ``int`` is kept exactly (not passed
+through a float).
+
 Examples
 --------
 >>> from dataclasses import dataclass
@@ -33,9 +39,23 @@ import numpy as np
 
 from .errors import ParameterError
 
-__all__ = ["Bounds", "Params", "bounded", "check_value", "params_from_dict", "params_to_dict"]
+__all__ = [
+    "INT_MAX",
+    "INT_MIN",
+    "Bounds",
+    "Params",
+    "bounded",
+    "check_value",
+    "params_from_dict",
+    "params_to_dict",
+]
 
 _MISSING = dataclasses.MISSING
+
+#: Smallest and largest whole number an ``integer=True`` field takes: the
+#: 64-bit signed range that TOML v1.0.0 requires parsers to hold losslessly.
+INT_MIN = -(2**63)
+INT_MAX = 2**63 - 1
 
 
 @dataclass(frozen=True)
@@ -49,7 +69,8 @@ class Bounds:
     finite : bool
         Whether NaN and infinities are rejected (default True).
     integer : bool
-        Whether the value must be a whole number.
+        Whether the value must be a whole number; whole numbers also keep to
+        ``[INT_MIN, INT_MAX]``, the 64-bit range.
     """
 
     ge: float | None = None
@@ -91,7 +112,39 @@ class Bounds:
                 return True
             if self.lt is not None and not np.all(v < self.lt):
                 return True
-        if self.integer and not np.all(np.mod(v, 1.0) == 0.0):
+        if self.integer:
+            with np.errstate(invalid="ignore"):
+                if not np.all(np.mod(v, 1.0) == 0.0):
+                    return True
+            if self.outside_int_range(v):
+                return True
+        return False
+
+    def outside_int_range(self, value: Any) -> bool:
+        """True where a whole number lies outside ``[INT_MIN, INT_MAX]`` (the 64-bit range)."""
+        if isinstance(value, (int, np.integer)):
+            return not INT_MIN <= int(value) <= INT_MAX
+        v = np.asarray(value, dtype=float)
+        v = v[np.isfinite(v)]  # NaN and infinities are the finiteness check's business
+        # float(INT_MAX) rounds up to 2**63, which is out of range: test < 2**63.
+        return not (np.all(v >= float(INT_MIN)) and np.all(v < 2.0**63))
+
+    def describe_int_range(self) -> str:
+        """:meth:`describe` followed by the 64-bit range a whole-number field keeps to."""
+        return f"{self.describe()}, between {INT_MIN} and {INT_MAX} (a 64-bit integer)"
+
+    def violated_int(self, value: int) -> bool:
+        """Exact check of a Python ``int`` against the range (no rounding through a float)."""
+        if self.outside_int_range(value):
+            return True
+        # int-float comparisons in Python are exact.
+        if self.ge is not None and not value >= self.ge:
+            return True
+        if self.gt is not None and not value > self.gt:
+            return True
+        if self.le is not None and not value <= self.le:
+            return True
+        if self.lt is not None and not value < self.lt:
             return True
         return False
 
@@ -140,6 +193,13 @@ def bounded(
     return dataclasses.field(default=default, metadata=metadata)
 
 
+def _allowed(value: Any, bounds: Bounds) -> str:
+    """What is allowed, naming the 64-bit range only when that is what ``value`` breaks."""
+    if bounds.integer and bounds.outside_int_range(value):
+        return bounds.describe_int_range()
+    return bounds.describe()
+
+
 def check_value(name: str, value: Any, bounds: Bounds) -> Any:
     """Check one value (scalar or array) against ``bounds``.
 
@@ -160,16 +220,31 @@ def check_value(name: str, value: Any, bounds: Bounds) -> Any:
     Raises
     ------
     ParameterError
-        If the value is not numeric or lies outside the range.
+        If the value is not numeric or lies outside the range (for a
+        whole-number field, also outside the 64-bit range).
     """
     if value is None or isinstance(value, (bool, np.bool_, str, bytes)):
         raise ParameterError(name, value, bounds.describe())
-    raw = np.asarray(value)
+    if bounds.integer and isinstance(value, (int, np.integer)):
+        # Keep whole numbers exact: a float holds every integer only up to 2**53.
+        if bounds.violated_int(int(value)):
+            raise ParameterError(name, value, _allowed(value, bounds))
+        return int(value)
+    if isinstance(value, int):
+        try:
+            value = float(value)  # an int for a float field; beyond ~1.8e308 it has no float
+        except OverflowError:
+            raise ParameterError(name, value, bounds.describe()) from None
+    try:
+        raw = np.asarray(value)
+    except (TypeError, ValueError, OverflowError):  # ragged nested lists and the like
+        raise ParameterError(name, value, bounds.describe()) from None
     if raw.dtype.kind not in "iuf":
-        raise ParameterError(name, value, bounds.describe())
+        # e.g. an int beyond 64 bits inside a list becomes an object array
+        raise ParameterError(name, value, bounds.describe_int_range() if bounds.integer else bounds.describe())
     arr = raw.astype(float)
     if bounds.violated(arr):
-        raise ParameterError(name, value, bounds.describe())
+        raise ParameterError(name, value, _allowed(arr, bounds))
     if arr.ndim == 0:
         return int(arr) if bounds.integer else float(arr)
     arr.setflags(write=False)

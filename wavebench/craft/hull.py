@@ -168,7 +168,9 @@ class HullParams(Params):
     -----
     Cross-field checks: array-valued fields share one length; the rigid-body
     inertia satisfies ``izz_kgm2 > mass_kg xg_m^2``; ``M = M_RB + M_A`` is
-    positive definite.
+    positive definite; ``mass_kg xg_m^2``, the entries of ``M`` and its
+    determinant are finite (extreme values that overflow float64 are refused
+    with a :class:`~wavebench.core.errors.ParameterError`, not a warning).
     """
 
     length_m: float = bounded(gt=0.0, unit="m", doc="length (used by manoeuvring criteria)")
@@ -193,15 +195,27 @@ class HullParams(Params):
 
     def _check(self) -> None:
         param_batch_size(self)
-        m = np.asarray(self.mass_kg)
-        if not np.all(self.izz_kgm2 > m * np.square(self.xg_m)):
+        # Each field is finite on its own, but products of extreme values can
+        # overflow float64: compute quietly, then refuse non-finite results.
+        with np.errstate(over="ignore", invalid="ignore"):
+            m = np.asarray(self.mass_kg, dtype=float)
+            cg_inertia = m * np.square(self.xg_m)
+            c = hull_coefficients(self)
+            det = c.m22 * c.m33 - c.m23 * c.m23
+        if not all(np.all(np.isfinite(x)) for x in (cg_inertia, c.m11, c.m22, c.m23, c.m33, det)):
+            name = self._largest_field()
+            raise ParameterError(
+                name,
+                getattr(self, name),
+                "with the other hull values this makes mass_kg * xg_m**2, the mass matrix or its "
+                "determinant overflow (they must be finite float64 numbers, below about 1.8e308)",
+            )
+        if not np.all(self.izz_kgm2 > cg_inertia):
             raise ParameterError(
                 "izz_kgm2",
                 self.izz_kgm2,
                 "must exceed mass_kg * xg_m**2 (inertia about CO, parallel-axis theorem)",
             )
-        c = hull_coefficients(self)
-        det = c.m22 * c.m33 - c.m23 * c.m23
         if not np.all(det > 0.0):
             raise ParameterError(
                 "n_vdot",
@@ -210,6 +224,11 @@ class HullParams(Params):
                 "not positive definite: need (mass_kg - y_vdot)(izz_kgm2 - n_rdot) > "
                 "(mass_kg xg_m - (y_rdot + n_vdot)/2)^2",
             )
+
+    def _largest_field(self) -> str:
+        """Name of the field with the largest magnitude (the likely culprit of an overflow)."""
+        sizes = {f.name: float(np.max(np.abs(getattr(self, f.name)))) for f in dataclasses.fields(self)}
+        return max(sizes, key=sizes.__getitem__)
 
 
 @dataclass(frozen=True)

@@ -11,7 +11,8 @@ metadata what the loader and the validator accept:
 ``table(cls)``
     A nested spec table.
 ``points(...)``
-    A list of ``[north_m, east_m]`` pairs, stored as a tuple of tuples.
+    A list of ``[north_m, east_m]`` pairs, stored as a tuple of tuples
+    (each coordinate within :data:`MAX_NED_M` of the origin).
 ``numbers(...)``
     A list of bounded numbers, stored as a tuple.
 ``named_tables(cls)``
@@ -101,7 +102,7 @@ def table(cls: type, default: Any = _MISSING, *, doc: str = "") -> Any:
 
 
 def points(default: Any = _MISSING, *, min_len: int = 1, doc: str = "") -> Any:
-    """A list of ``[north_m, east_m]`` pairs [m] (at least ``min_len``)."""
+    """A list of ``[north_m, east_m]`` pairs [m] (at least ``min_len``, each within :data:`MAX_NED_M`)."""
     return _field(default, {"points": True, "min_len": min_len, "doc": doc})
 
 
@@ -130,6 +131,14 @@ def params(cls: type[Params], default: Any = _MISSING, *, doc: str = "") -> Any:
     return _field(default, {"params": cls, "doc": doc})
 
 
+#: Largest |north| or |east| of a point in the local NED frame [m]: a little
+#: over half the WGS-84 equatorial circumference (pi * 6 378 137 m = 20 037.5 km),
+#: farther than any place on Earth lies from the origin. It also keeps the
+#: squares and products of coordinates in the geometry checks far from
+#: float64 overflow.
+MAX_NED_M = 2.1e7
+
+
 def _check_points(name: str, value: Any, min_len: int) -> tuple[tuple[float, float], ...]:
     allowed = f"must be a list of at least {min_len} [north_m, east_m] pairs of finite numbers"
     if isinstance(value, (str, bytes, Mapping)) or not isinstance(value, (list, tuple)) or len(value) < min_len:
@@ -140,6 +149,12 @@ def _check_points(name: str, value: Any, min_len: int) -> tuple[tuple[float, flo
         ok = ok and all(isinstance(x, (int, float)) and not isinstance(x, bool) and math.isfinite(x) for x in p)
         if not ok:
             raise ParameterError(f"{name}[{i}]", p, "must be a [north_m, east_m] pair of finite numbers")
+        if not all(abs(x) <= MAX_NED_M for x in p):
+            raise ParameterError(
+                f"{name}[{i}]",
+                p,
+                f"must be a [north_m, east_m] pair within {MAX_NED_M / 1e3:,.0f} km of the NED origin",
+            )
         out.append((float(p[0]), float(p[1])))
     return tuple(out)
 

@@ -67,7 +67,7 @@ from typing import Any
 
 from ..core.errors import ParameterError
 from ..core.geodesy import GeodeticOrigin
-from ..core.params import Bounds, Params, params_from_dict, params_to_dict
+from ..core.params import Bounds, Params, params_to_dict
 from ..sea.current import CurrentVariationParams, UniformCurrentParams
 from ..sea.spectra import JONSWAP_GAMMA_RANGE, SeaSpectrum
 from ..sea.spreading import DirectionalSpreading
@@ -124,6 +124,35 @@ SPEC_VERSION = 1
 
 _MISSING = dataclasses.MISSING
 
+#: Most steps a duration or period may hold: below 2**53 every whole number is
+#: a float64 (IEEE 754 binary64 has a 53-bit significand), so "a whole number
+#: of steps" can still be told from "not quite"; beyond it the test means nothing.
+MAX_STEPS = 2**53
+
+
+def whole_steps(value: float, step: float) -> int | None:
+    """``value / step`` as a whole number (to a relative 1e-9), or None.
+
+    None when the quotient is not within 1e-9 (relative) of a whole number,
+    is not finite (an overflow or a division by an underflowed step) or
+    exceeds :data:`MAX_STEPS`; no exception and no warning for extreme
+    but finite inputs.
+
+    Examples
+    --------
+    >>> whole_steps(10.0, 0.1), whole_steps(1.0, 0.3), whole_steps(1e308, 1e-2)
+    (100, None, None)
+    """
+    if step == 0.0:
+        return None
+    k = value / step  # Python floats: an overflow gives inf, no exception
+    if not math.isfinite(k) or abs(k) > MAX_STEPS:
+        return None
+    n = round(k)
+    if abs(k - n) > 1e-9 * max(abs(k), 1.0):
+        return None
+    return n
+
 
 # ---------------------------------------------------------------------------
 # tables
@@ -153,11 +182,12 @@ class ScenarioSpec(SpecTable):
     dt_s: float = number(bounds=Bounds(gt=0.0), unit="s", doc="time step")
 
     def _check(self) -> None:
-        n = self.duration_s / self.dt_s
-        if abs(n - round(n)) > 1e-9 * max(n, 1.0) or round(n) < 1:
+        n = whole_steps(self.duration_s, self.dt_s)
+        if n is None or n < 1:
             raise ParameterError(
-                "dt_s", self.dt_s, f"must divide duration_s = {self.duration_s!r} into a whole number of steps"
-            )
+                "dt_s", self.dt_s,
+                f"must divide duration_s = {self.duration_s!r} into a whole number of steps, at most {MAX_STEPS}",
+            )  # fmt: skip
 
     @property
     def n_steps(self) -> int:
@@ -285,8 +315,8 @@ class Spec(SpecTable):
         ):
             if value is None:
                 continue
-            k = value / dt
-            if abs(k - round(k)) > 1e-9 * max(k, 1.0) or round(k) < 1:
+            k = whole_steps(value, dt)
+            if k is None or k < 1:
                 raise ParameterError(path, value, f"must be a whole number (>= 1) of time steps dt_s = {dt!r}")
             if value > self.scenario.duration_s:
                 raise ParameterError(path, value, f"must be at most duration_s = {self.scenario.duration_s!r}")
@@ -307,13 +337,12 @@ class Spec(SpecTable):
                 raise ParameterError(f"sensors.{name}.latency_s", sensor.latency_s,
                                      f"must be 0 for kind '{sensor.kind}' in this version (its latency is not "
                                      "modelled)")  # fmt: skip
-            k = 1.0 / (sensor.rate_hz * period)
-            if abs(k - round(k)) > 1e-9 * max(k, 1.0) or round(k) < 1:
+            k = whole_steps(1.0 / sensor.rate_hz, period)  # rate_hz > 0; 1 / tiny overflows to inf
+            if k is None or k < 1:
                 raise ParameterError(f"sensors.{name}.rate_hz", sensor.rate_hz,
                                      f"must give a period that is a whole number (>= 1) of control periods "
                                      f"({period!r} s)")  # fmt: skip
-            k = sensor.latency_s / period
-            if abs(k - round(k)) > 1e-9 * max(k, 1.0):
+            if whole_steps(sensor.latency_s, period) is None:
                 raise ParameterError(f"sensors.{name}.latency_s", sensor.latency_s,
                                      f"must be a whole number (>= 0) of control periods ({period!r} s): "
                                      f"0, {period!r}, {2 * period!r}, ...")  # fmt: skip
@@ -365,7 +394,8 @@ def _from_data(cls: type, data: Any, path: str) -> Any:
     if not isinstance(data, Mapping):
         raise ParameterError(path, data, "must be a table")
     if issubclass(cls, Params):
-        return params_from_dict(cls, data, path)
+        # the same loader as every other parameter table: single values only (no arrays)
+        return params_tree_from_data(cls, data, path)
     fields = {f.name: f for f in dataclasses.fields(cls) if f.init}
     prefix = f"{path}." if path else ""
     for key in data:

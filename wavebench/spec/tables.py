@@ -26,6 +26,7 @@ from .sensors import NAVIGATORS
 
 __all__ = [
     "EXECUTORS",
+    "MAX_SURVEY_LINES",
     "CampaignSpec",
     "CraftSpec",
     "GuideSpec",
@@ -129,6 +130,22 @@ class SeabedSpec(SpecTable):
             raise ParameterError("bay", "(given)", "is only for kind 'synthetic_bay'")
 
 
+#: Most survey lines a ``kind = "survey"`` mission may have (a sanity limit,
+#: common practice, no source: it keeps a typo in ``line_spacing_m`` from
+#: building an enormous waypoint list when the spec is loaded).
+MAX_SURVEY_LINES = 100_000
+
+
+def _survey_line_count(polygon: tuple, spacing_m: float, heading_deg: float) -> float:
+    """Number of survey lines the polygon's width across the lines holds (inf if it overflows)."""
+    h = math.radians(heading_deg)
+    across = [-n * math.sin(h) + e * math.cos(h) for n, e in polygon]  # Python floats: overflow gives inf
+    if not all(math.isfinite(a) for a in across):
+        return math.inf
+    lines = (max(across) - min(across)) / spacing_m
+    return lines if math.isfinite(lines) else math.inf
+
+
 @dataclass(frozen=True, kw_only=True)
 class MissionSpec(SpecTable):
     """``[mission]``: the path to follow and the speed schedule.
@@ -136,7 +153,8 @@ class MissionSpec(SpecTable):
     ``kind = "waypoints"`` with ``waypoints_ne_m`` (at least two
     ``[north_m, east_m]`` pairs), or ``kind = "survey"`` with
     ``polygon_ne_m`` (a convex polygon), ``line_spacing_m`` and
-    ``line_heading_deg`` (parallel lines, :func:`~wavebench.guidance.survey.survey_waypoints`).
+    ``line_heading_deg`` (parallel lines, :func:`~wavebench.guidance.survey.survey_waypoints`;
+    at most :data:`MAX_SURVEY_LINES` lines).
     Positions are metres in the scenario's NED frame.
 
     ``speed_mps`` is the ordered speed through the water (a distribution
@@ -188,6 +206,11 @@ class MissionSpec(SpecTable):
                 check_convex_polygon(self.polygon_ne_m)
             except ParameterError as exc:
                 raise ParameterError("polygon_ne_m", list(self.polygon_ne_m), exc.allowed) from None
+            n_lines = _survey_line_count(self.polygon_ne_m, self.line_spacing_m, self.line_heading_deg)
+            if not n_lines <= MAX_SURVEY_LINES:
+                raise ParameterError("line_spacing_m", self.line_spacing_m,
+                                     f"gives {n_lines:.4g} survey lines across the polygon; at most "
+                                     f"{MAX_SURVEY_LINES} allowed (widen the spacing)")  # fmt: skip
         wp = self.waypoints()
         for i in range(len(wp) - 1):
             if math.dist(wp[i], wp[i + 1]) == 0.0:
