@@ -247,12 +247,21 @@ def test_timing_field_at_1e308_is_refused_not_overflowing(path: str) -> None:
 
 
 @pytest.mark.parametrize(
-    "setting", ["scenario.dt_s=5e-324", "sensors.gps.rate_hz=5e-324", "sensors.gps.latency_s=1e308"]
+    ("setting", "field", "message"),
+    [
+        ("sensors.gps.rate_hz=5e-324", "sensors.gps.rate_hz", "whole number"),
+        ("sensors.gps.latency_s=1e308", "sensors.gps.latency_s", "whole number"),
+        ("scenario.dt_s=5e-324", "scenario.duration_s", "at most 9007199254740992 time steps"),
+        ("scenario.duration_s=1e300", "scenario.duration_s", "at most 9007199254740992 time steps"),
+    ],
 )
-def test_extreme_steps_rates_and_latencies_are_refused(setting: str) -> None:
-    # 5e-324 is the smallest subnormal double (IEEE 754): 1 / 5e-324 overflows, x * 5e-324 underflows to 0
-    with pytest.raises(ParameterError, match=r"whole number"):
-        _load("sensors.gps.rate_hz" if "sensors" in setting else "scenario.dt_s", setting)
+def test_extreme_steps_rates_and_latencies_are_refused(setting: str, field: str, message: str) -> None:
+    # 5e-324 is the smallest subnormal double (IEEE 754): 1 / 5e-324 overflows, x * 5e-324 underflows to 0.
+    # IEEE 754 binary64 holds every whole number only up to 2**53 = 9007199254740992: beyond it "a whole
+    # number of steps" cannot be told from "not quite", so a scenario is at most 2**53 steps.
+    with pytest.raises(ParameterError, match=message) as info:
+        _load("sensors.gps.rate_hz", setting)
+    assert info.value.field == field
 
 
 @pytest.mark.parametrize("key", ["lat_deg", "lon_deg", "h_m"])

@@ -182,12 +182,16 @@ class ScenarioSpec(SpecTable):
     dt_s: float = number(bounds=Bounds(gt=0.0), unit="s", doc="time step")
 
     def _check(self) -> None:
+        steps = self.duration_s / self.dt_s  # Python floats: an overflow gives inf, no exception
+        if not steps <= MAX_STEPS:
+            raise ParameterError("duration_s", self.duration_s,
+                                 f"must be at most {MAX_STEPS} time steps of dt_s = {self.dt_s!r} "
+                                 f"(this is {steps:.4g} steps)")  # fmt: skip
         n = whole_steps(self.duration_s, self.dt_s)
         if n is None or n < 1:
             raise ParameterError(
-                "dt_s", self.dt_s,
-                f"must divide duration_s = {self.duration_s!r} into a whole number of steps, at most {MAX_STEPS}",
-            )  # fmt: skip
+                "dt_s", self.dt_s, f"must divide duration_s = {self.duration_s!r} into a whole number of steps"
+            )
 
     @property
     def n_steps(self) -> int:
