@@ -147,9 +147,10 @@ def positive_distributions(draw):
     return {"choice": draw(st.lists(finite_pos, min_size=1, max_size=5))}
 
 
+# TOML v1.0.0: integers are 64-bit signed, so a seed above 2**63 - 1 is refused at load (tests/test_spec_fuzz.py)
 @settings(max_examples=60, deadline=None)
 @given(hs=positive_distributions(), tp=positive_distributions(), speed=positive_distributions(),
-       seed=st.integers(0, 2**63), trials=st.integers(1, 10_000))
+       seed=st.integers(0, 2**63 - 1), trials=st.integers(1, 10_000))
 def test_round_trip_property(hs, tp, speed, seed, trials):
     data = edited("sea.hs_m", hs)
     data = edited("sea.tp_s", tp, data)
