@@ -12,6 +12,11 @@
     ``[craft]`` table), the starting point for a spec of one's own.
 ``wavebench seakeeping``
     Sea-state, seakeeping and manoeuvring report for a demo craft.
+``wavebench replay DIR TRIAL``, ``wavebench export DIR FILE.nc``
+    Run one stored trial alone and check its bits; one NetCDF file of a store.
+``wavebench verify NOTEBOOK``
+    Re-run a saved notebook headlessly and check every result card in it
+    reproduces bit for bit (spec hash and result hash).
 
 Errors are one readable line on standard error and exit status 2.
 """
