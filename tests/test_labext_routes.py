@@ -295,6 +295,8 @@ def test_requests_without_the_token_are_refused(srv: Server) -> None:
         "wavebench/stores/runs/%2e%2e/%2e%2e/outside/secret.txt",
         "wavebench/stores/%2e%2e%2fsecret.txt",
         "wavebench/stores/..%5coutside%5cext_store",
+        "wavebench/stores/%252e%252e/outside/ext_store",
+        "wavebench/stores/runs/a%00/../../../outside/secret.txt",
         "wavebench/stores/links/to_outside",
         "wavebench/stores/links/to_outside/",
         "wavebench/stores/links/../links/to_outside",
