@@ -210,6 +210,12 @@ export class CampaignsPanel extends Widget {
     count.className = 'wb-Store-count';
     count.textContent = `${store.done ?? '?'} / ${store.planned ?? '?'} trials`;
     progress.append(bar, count);
+    if (store.report) {
+      const link = document.createElement('span');
+      link.className = 'wb-Store-report';
+      link.textContent = 'report ↗';
+      progress.append(link);
+    }
 
     const verdicts = document.createElement('div');
     verdicts.className = 'wb-Store-verdicts';

@@ -21,7 +21,8 @@ import { ILauncher } from '@jupyterlab/launcher';
 
 import { CampaignsPanel } from './campaigns';
 import { campaignsIcon, wavebenchIcon } from './icons';
-import { TEMPLATES, templateNotebook } from './templates';
+import { SPEC_FACTORY, SpecSummaryFactory } from './specviewer';
+import { ITemplate, specTemplate, TEMPLATES, templateNotebook } from './templates';
 
 const CATEGORY = 'wavebench';
 
@@ -29,6 +30,26 @@ export namespace CommandIDs {
   export const newTrial = (key: string): string => `wavebench:new-trial-${key}`;
   export const refreshCampaigns = 'wavebench:refresh-campaigns';
   export const showCampaigns = 'wavebench:show-campaigns';
+  export const trialFromSpec = 'wavebench:new-trial-from-spec';
+}
+
+/** Create an untitled notebook in `dir`, fill it from a template and open it. */
+async function newTrialNotebook(
+  app: JupyterFrontEnd,
+  docManager: IDocumentManager,
+  dir: string,
+  template: ITemplate
+): Promise<unknown> {
+  const model = await app.commands.execute('docmanager:new-untitled', {
+    path: dir,
+    type: 'notebook'
+  });
+  await app.serviceManager.contents.save(model.path, {
+    type: 'notebook',
+    format: 'json',
+    content: templateNotebook(template)
+  });
+  return docManager.openOrReveal(model.path, 'Notebook', { name: 'python3' });
 }
 
 /** Launcher cards and palette commands that create trial notebooks. */
@@ -54,16 +75,7 @@ const templatesPlugin: JupyterFrontEndPlugin<void> = {
         icon: args => (args['isPalette'] ? undefined : wavebenchIcon),
         execute: async args => {
           const cwd = (args['cwd'] as string) ?? browser?.model.path ?? '';
-          const model = await commands.execute('docmanager:new-untitled', {
-            path: cwd,
-            type: 'notebook'
-          });
-          await app.serviceManager.contents.save(model.path, {
-            type: 'notebook',
-            format: 'json',
-            content: templateNotebook(t)
-          });
-          return docManager.openOrReveal(model.path, 'Notebook', { name: 'python3' });
+          return newTrialNotebook(app, docManager, cwd, t);
         }
       });
       launcher?.add({ command: id, category: 'wavebench', rank });
@@ -106,4 +118,54 @@ const campaignsPlugin: JupyterFrontEndPlugin<void> = {
   }
 };
 
-export default [templatesPlugin, campaignsPlugin];
+/** A summary view for wavebench spec files (*.toml), opened through "Open With". */
+const specViewerPlugin: JupyterFrontEndPlugin<void> = {
+  id: '@wavebench/labextension:spec-viewer',
+  description: 'A summary view of wavebench spec files with a button to open one in a trial notebook.',
+  autoStart: true,
+  requires: [IDocumentManager],
+  optional: [ICommandPalette],
+  activate: (
+    app: JupyterFrontEnd,
+    docManager: IDocumentManager,
+    palette: ICommandPalette | null
+  ): void => {
+    const registry = app.docRegistry;
+    let fileTypes = registry.getFileTypesForPath('spec.toml').map(ft => ft.name);
+    if (fileTypes.length === 0) {
+      registry.addFileType({
+        name: 'wavebench-toml',
+        displayName: 'TOML file',
+        extensions: ['.toml'],
+        mimeTypes: ['application/toml'],
+        contentType: 'file',
+        fileFormat: 'text'
+      });
+      fileTypes = ['wavebench-toml'];
+    }
+    app.commands.addCommand(CommandIDs.trialFromSpec, {
+      label: 'New trial notebook from this spec',
+      caption: 'A trial notebook beside the spec file that loads it',
+      execute: args => {
+        const path = String(args['path'] ?? '');
+        const parts = path.split('/');
+        const fileName = parts.pop() ?? path;
+        return newTrialNotebook(app, docManager, parts.join('/'), specTemplate(fileName));
+      }
+    });
+    const factory = new SpecSummaryFactory(
+      {
+        name: SPEC_FACTORY,
+        label: 'wavebench spec',
+        fileTypes,
+        defaultFor: [],
+        readOnly: true
+      },
+      path => app.commands.execute(CommandIDs.trialFromSpec, { path })
+    );
+    registry.addWidgetFactory(factory);
+    void palette;
+  }
+};
+
+export default [templatesPlugin, campaignsPlugin, specViewerPlugin];

@@ -208,3 +208,39 @@ export function templateNotebook(t: ITemplate): any {
     )
   };
 }
+
+/** A trial template that loads a spec file lying beside the new notebook. */
+export function specTemplate(fileName: string): ITemplate {
+  const quoted = JSON.stringify(fileName);
+  return {
+    key: 'from-spec',
+    label: `Trial from ${fileName}`,
+    caption: `A trial notebook that loads ${fileName}`,
+    cells: [
+      { kind: 'markdown', source: CAUTION },
+      {
+        kind: 'markdown',
+        source:
+          `# Trial from \`${fileName}\`\n\n` +
+          'Loads the spec file beside this notebook, runs a small campaign with its seed and ' +
+          'shows the result card. Leave out `trials=` to run as many trials as the spec asks.'
+      },
+      {
+        kind: 'code',
+        source:
+          'from wavebench.campaign import run_campaign\n' +
+          'from wavebench.campaign.fingerprint import result_card\n' +
+          'from wavebench.spec import load_spec\n' +
+          '\n' +
+          `spec = load_spec(${quoted})\n` +
+          'print(f"scenario: {spec.scenario.name}, {spec.scenario.duration_s:g} s per trial")'
+      },
+      {
+        kind: 'code',
+        source:
+          'result = run_campaign(spec, trials=50, progress=False)\n' +
+          'result_card(result)'
+      }
+    ]
+  };
+}
