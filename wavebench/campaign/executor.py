@@ -334,7 +334,8 @@ def run_campaign(
     frames = []
     records = []  # with a store, time series go to disk as chunks finish
     complete = False
-    bar = tqdm(total=c.trials, desc="campaign", unit="trial", disable=not progress, smoothing=0.1)
+    bar = tqdm(total=c.trials, desc="campaign", unit="trial", disable=not progress, smoothing=0.1,
+               bar_format="{l_bar}{bar}| {n:.0f}/{total_fmt} [{elapsed}<{remaining}, {rate_fmt}]")  # fmt: skip
     done = sum(len(frame) for frame, _ in stored.values())
     bar.n = done
     if on_chunk is not None:
