@@ -335,3 +335,23 @@ def test_files_linking_out_of_the_root_are_never_read(srv: Server) -> None:
     assert "links/to_outside" not in _by_path(json.loads(listing))
     status, body = srv.get("wavebench/stores/links/to_outside")
     assert status == 403 and SENTINEL not in body
+
+
+def test_non_json_numbers_and_special_files_are_reported_not_served(tmp_path: Path) -> None:
+    # RFC 8259 sec. 6: NaN and Infinity are not JSON numbers (Python's json module accepts them; the reply must not);
+    # a FIFO named like a store file would block a reader forever.
+    import json as _json
+
+    from wavebench.labext.stores import describe_store
+
+    nan_store = tmp_path / "nan"
+    nan_store.mkdir()
+    (nan_store / "manifest.json").write_text('{"format": "wavebench-store", "trials": NaN}', encoding="utf-8")
+    got = describe_store(tmp_path, nan_store, detail=True)
+    assert "not valid JSON" in got["error"]
+    _json.dumps(got, allow_nan=False)  # answerable as strict JSON
+    fifo_store = tmp_path / "fifo"
+    fifo_store.mkdir()
+    os.mkfifo(fifo_store / "manifest.json")
+    got = describe_store(tmp_path, fifo_store, detail=True)  # returns at once (a blocking read would hang here)
+    assert "not a regular file" in got["error"]

@@ -213,3 +213,42 @@ def test_a_damaged_time_series_chunk_runs_again(tmp_path, spec, uninterrupted, m
     assert "000000002-000000003" in texts and "000000006-000000007" in texts  # the two damaged chunks, named
     assert result.complete
     _same_as(store, uninterrupted)
+
+
+def test_an_interrupted_cli_run_keeps_its_time_series_for_resume(tmp_path, uninterrupted, monkeypatch) -> None:
+    # Ctrl-C part way: the CLI writes what there is, and the finished chunks' time series must survive it
+    from wavebench.campaign import executor
+
+    real, calls = executor.run_chunk, {"n": 0}
+
+    def interrupt_fourth(*args, **kw):
+        calls["n"] += 1
+        if calls["n"] == 4:
+            raise KeyboardInterrupt
+        return real(*args, **kw)
+
+    monkeypatch.setattr(executor, "run_chunk", interrupt_fourth)
+    store = tmp_path / "store"
+    with pytest.warns(WavebenchWarning, match="interrupted"):
+        assert main(["run", "skerrow_sound", "--out", str(store), "--quiet", *CLI_SETTINGS]) == 130
+    monkeypatch.setattr(executor, "run_chunk", real)
+    assert (store / "timeseries.zarr").is_dir()
+    done = {p.name for p in (store / "chunks").glob("metrics-*.parquet")}
+    assert len(done) == 3
+    ran = []
+    monkeypatch.setattr(executor, "run_chunk", lambda spec, idx, **kw: ran.append(int(idx[0])) or real(spec, idx, **kw))
+    assert main(["run", "--resume", str(store), "--quiet"]) == 0
+    assert min(ran) == 6  # the three finished chunks (trials 0-5) were not run again
+    _same_as(store, uninterrupted)
+
+
+def test_a_new_campaign_replaces_a_finished_store_in_its_folder(tmp_path, spec, uninterrupted) -> None:
+    store = tmp_path / "store"
+    run_campaign(spec, trials=4, batch_size=1, seed=spec.campaign.seed + 5, progress=False, store=store)
+    run_campaign(spec, progress=False, store=store)  # other trials, batch size and seed: nothing of the old may mix
+    _same_as(store, uninterrupted)
+    from wavebench.campaign.series import open_timeseries
+
+    with open_timeseries(store) as ds:
+        assert ds.attrs["spec_hash"] == read_store(store)["manifest"]["spec_hash"]
+        assert ds["trial"].values.tolist() == list(range(24))

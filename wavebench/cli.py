@@ -108,8 +108,8 @@ def _run(args: argparse.Namespace) -> int:
         print(f"wavebench: {exc}", file=sys.stderr)
         return 1
     out = Path(args.out)
-    if not result.complete:  # interrupted: the finished chunks stay for --resume; write what there is
-        write_store(result, out)
+    if not result.complete:  # interrupted: the finished chunks (and their time series) stay for --resume
+        write_store(result, out, timeseries_written=True)
     if args.report:
         from .report.campaign import write_campaign_report
 

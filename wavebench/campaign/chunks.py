@@ -85,15 +85,20 @@ def open_plan(store: Path, spec: Spec, record: bool, *, resume: bool, until: Any
     want = _plan(spec, record, until)
     if plan_file.exists():
         have = json.loads(plan_file.read_text(encoding="utf-8"))
-        if have != want:
-            diff = ", ".join(f"{k}: store {have.get(k)!r}, now {want[k]!r}" for k in want if have.get(k) != want[k])
-            raise ParameterError("resume", str(store), f"the store was planned differently ({diff})")
         if not resume:
             raise ParameterError("out", str(store), "holds an unfinished campaign: resume it with --resume, or "
                                  "choose another folder")  # fmt: skip
+        if have != want:
+            diff = ", ".join(f"{k}: store {have.get(k)!r}, now {want[k]!r}" for k in want if have.get(k) != want[k])
+            raise ParameterError("resume", str(store), f"the store was planned differently ({diff})")
         return folder
     if resume:
         raise ParameterError("resume", str(store), "has no unfinished campaign to resume (no chunks/plan.json)")
+    # a new campaign replaces a finished store in the folder: none of its files may mix with the new ones
+    for name in ("timeseries.zarr", "timeseries.zarr.tmp"):
+        shutil.rmtree(store / name, ignore_errors=True)
+    for name in ("timeseries.nc", "metrics.parquet", "verdicts.json", "manifest.json", "report.html"):
+        (store / name).unlink(missing_ok=True)
     folder.mkdir(parents=True, exist_ok=True)
     (store / "spec.toml").write_text(dump_spec(spec), encoding="utf-8")
     _atomic_write_text(plan_file, json.dumps(want, indent=1))
@@ -143,9 +148,10 @@ def _series_readable(series: Path) -> bool:
         list(group.array_keys())
         group["trial"].shape  # noqa: B018 - reads the array metadata
     except (OSError, ValueError, KeyError) as exc:
-        warnings.warn(f"{series} cannot be read ({type(exc).__name__}: {exc}); every recorded chunk runs again",
-                      WavebenchWarning, stacklevel=3)  # fmt: skip
-        shutil.rmtree(series, ignore_errors=True)
+        aside = series.with_name(f"{series.name}.unreadable-{os.getpid()}")
+        warnings.warn(f"{series} cannot be read ({type(exc).__name__}: {exc}); it is moved aside to {aside.name} "
+                      "and every recorded chunk runs again", WavebenchWarning, stacklevel=3)  # fmt: skip
+        os.replace(series, aside)
         return False
     return True
 
@@ -180,5 +186,5 @@ def finished_chunks(folder: Path, record: bool) -> dict[str, tuple[Any, Any]]:
 
 
 def clear_chunks(store: Path) -> None:
-    """Remove the chunk folder once the store is consolidated."""
+    """Remove the chunk folder once the campaign is complete and its store files are written."""
     shutil.rmtree(store / CHUNKS_DIR, ignore_errors=True)

@@ -274,10 +274,12 @@ def run_campaign(
         not itself stratified (a Sobol' prefix is).
     store : path-like, optional
         A store folder to write as the campaign runs: every finished chunk is
-        kept on disk (:mod:`wavebench.campaign.chunks`) and the folder is
-        consolidated (:func:`~wavebench.campaign.store.write_store`) when the
-        campaign completes. The time series then never sit in memory all at
-        once: the result's ``timeseries`` is the store's file, opened lazily.
+        kept on disk (time series into ``timeseries.zarr``, metrics into
+        ``chunks/``; :mod:`wavebench.campaign.chunks`) and the store's other
+        files are written (:func:`~wavebench.campaign.store.write_store`) when
+        the campaign completes. The time series then never sit in memory all
+        at once: the result's ``timeseries`` is the Zarr store, opened lazily.
+        A finished store already in the folder is replaced.
     resume : bool
         Continue the unfinished campaign in ``store``: the chunks it holds
         are read back, only the missing ones run, and the result is the same

@@ -83,15 +83,26 @@ class _RestartingPool:
                                                       initializer=_worker_init)  # fmt: skip
 
     def map(self, fn: Callable[[Any], Any], items: Iterable[Any]) -> Iterator[Any]:
+        """Results in order, with at most ``2 * workers`` chunks in flight.
+
+        The bound keeps the finished chunks waiting behind a slow one (each
+        with its time series) from piling up in memory.
+        """
+        from collections import deque
         from concurrent.futures.process import BrokenProcessPool
 
         todo = list(items)
-        start = 0
+        window = 2 * self.workers
+        start = 0  # chunks already yielded
         while start < len(todo):
-            futures = [self.pool.submit(fn, item) for item in todo[start:]]
+            pending: deque[Any] = deque()
+            nxt = start
             try:
-                for fut in futures:
-                    result = fut.result()
+                while start < len(todo):
+                    while nxt < len(todo) and len(pending) < window:
+                        pending.append(self.pool.submit(fn, todo[nxt]))
+                        nxt += 1
+                    result = pending.popleft().result()
                     start += 1
                     yield result
             except BrokenProcessPool:
@@ -101,7 +112,7 @@ class _RestartingPool:
                 self.pool.shutdown(wait=False, cancel_futures=True)
                 self.pool = self._start()
             finally:
-                for fut in futures:
+                for fut in pending:
                     fut.cancel()
 
     def shutdown(self) -> None:

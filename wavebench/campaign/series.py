@@ -154,7 +154,7 @@ def shrink_series(path: Path, n_trials: int) -> None:
     group = zarr.open_group(path, mode="r+", zarr_format=3)
     for name in group.array_keys():
         arr = group[name]
-        if name == "time" or arr.shape[0] == n_trials:
+        if name == "time" or arr.shape[0] <= n_trials:  # only ever cut, never grow
             continue
         arr.resize((n_trials, *arr.shape[1:]))
 

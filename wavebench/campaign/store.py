@@ -68,7 +68,9 @@ def write_store(result: CampaignResult, out_dir: str | os.PathLike[str], *, time
     ----------
     result : CampaignResult
     out_dir : path-like
-        The folder; existing store files in it are replaced.
+        The folder; existing store files in it are replaced (the time series
+        only when ``timeseries_written`` is False and no unfinished campaign's
+        chunks are in the folder).
     timeseries_written : bool
         ``timeseries.zarr`` is already in place (written by a campaign's
         chunks as they finished); leave it as it is.
@@ -90,7 +92,7 @@ def write_store(result: CampaignResult, out_dir: str | os.PathLike[str], *, time
         pass
     elif result.timeseries is not None:
         write_series(result.timeseries, series, result.batch_size)
-    elif series.exists():
+    elif series.exists() and not (out / "chunks" / "plan.json").exists():  # an unfinished campaign keeps its own
         shutil.rmtree(series)
     (out / LEGACY_NAME).unlink(missing_ok=True)
     verdicts = [v.to_dict() for v in result.verdicts]

@@ -84,7 +84,9 @@ def make_handlers(base_url: str, root_dir: str) -> list[tuple[str, type, dict[st
                 folder = resolve_store(self.store_root, relative)
             except OutsideRoot as exc:
                 raise tornado.web.HTTPError(403, str(exc)) from None
-            if any(part.startswith(".") for part in relative.split("/") if part not in ("", ".")):
+            inside = os.path.relpath(folder, os.path.realpath(self.store_root)).replace(os.sep, "/")
+            parts = [*relative.split("/"), *inside.split("/")]  # as asked and as resolved (a link to a hidden folder)
+            if any(part.startswith(".") for part in parts if part not in ("", ".")):
                 raise tornado.web.HTTPError(404, "no campaign store at this path (hidden folders are not served)")
             is_store = os.path.isdir(folder) and (
                 os.path.lexists(os.path.join(folder, "manifest.json"))

@@ -25,6 +25,7 @@ import datetime as _dt
 import json
 import os
 import re
+import stat
 import sys
 import time
 from collections.abc import Iterator
@@ -206,7 +207,10 @@ def _read_text(root: str, path: str, name: str) -> str:
     if real is None:
         raise _Unreadable(f"{name} points outside the server root (not read)")
     try:
-        size = os.stat(real).st_size
+        st = os.stat(real)
+        if not stat.S_ISREG(st.st_mode):  # a FIFO or device would block or never end
+            raise _Unreadable(f"{name} is not a regular file (not read)")
+        size = st.st_size
         if size > MAX_TEXT_BYTES:
             raise _Unreadable(f"{name} is too large to read ({size} bytes)")
         with open(real, encoding="utf-8") as fh:
@@ -223,11 +227,17 @@ def _read_text(root: str, path: str, name: str) -> str:
         raise _Unreadable(f"{name} cannot be read ({exc.strerror or type(exc).__name__})") from None
 
 
+def _no_constant(word: str) -> Any:
+    raise ValueError(f"{word} is not a JSON number")
+
+
 def _read_json(root: str, path: str, name: str) -> Any:
     text = _read_text(root, path, name)
     try:
-        return json.loads(text)
-    except json.JSONDecodeError as exc:
+        return json.loads(text, parse_constant=_no_constant)
+    except ValueError as exc:
+        if not isinstance(exc, json.JSONDecodeError):  # NaN / Infinity: not JSON, and not answerable as JSON
+            raise _Unreadable(f"{name} is not valid JSON ({exc})") from None
         raise _Unreadable(f"{name} is not valid JSON ({exc.msg} at line {exc.lineno} column {exc.colno})") from None
     except RecursionError:
         raise _Unreadable(f"{name} is nested too deeply to read") from None
