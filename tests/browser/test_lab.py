@@ -1,0 +1,287 @@
+"""wavebench's JupyterLab extension in a real JupyterLab, driven by a headless chromium.
+
+One JupyterLab server and one browser are shared by the whole file (see conftest.py);
+every test gets a fresh page. What the page shows is checked against files the test
+wrote itself and read back with reference readers (:mod:`tomllib`, :mod:`json`,
+:mod:`nbformat`), not with the extension's own code. Waits are Playwright's
+auto-retrying ``expect`` with explicit timeouts (and short polls of files on disk), never
+fixed sleeps.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+import shutil
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import nbformat
+import pytest
+from playwright.sync_api import expect  # the test extra's `playwright`: a missing package fails, never skips
+
+if sys.version_info >= (3, 11):
+    import tomllib
+else:  # pragma: no cover
+    tomllib = pytest.importorskip("tomli")
+
+CARDS = ["First trial", "Navigation study", "Pilot comparison", "Operability study"]
+LONG = 60_000  # ms: kernel start and first widget render on a 2-core machine
+_QUEUED = re.compile(r"\[(\*|\d+)\]")  # an input prompt once the cell is queued ([*]) or has run ([n])
+
+
+def _scenario_name(spec_file: Path) -> str:
+    with open(spec_file, "rb") as fh:
+        return str(tomllib.load(fh)["scenario"]["name"])
+
+
+def _make_store(out: Path) -> None:
+    from wavebench.cli import main
+
+    rc = main(["run", "skerrow_sound", "--out", str(out), "--trials", "4",
+               "--set", "scenario.duration_s=20.0", "--quiet"])  # fmt: skip
+    assert rc in (0, None, 1)  # 1: a verdict may fail; the store is written either way
+    assert (out / "manifest.json").is_file()
+
+
+def _wait_kernel_idle(page) -> None:
+    # jupyter-testing.md: the notebook says idle before its session exists; the status bar
+    # shows the kernel's display name and "Idle" only once the kernel is really there.
+    expect(page.locator("#jp-main-statusbar")).to_contain_text("(ipykernel) | Idle", timeout=LONG)
+
+
+def _run_first_cell(page) -> None:
+    """Run the first code cell, retrying while the kernel silently drops the request."""
+    cell = page.locator(".jp-Notebook .jp-CodeCell").first
+    prompt = cell.locator(".jp-InputPrompt")
+    for _attempt in range(4):
+        cell.locator(".jp-InputArea-editor").click()
+        page.keyboard.press("Escape")  # command mode on that cell
+        page.keyboard.press("Control+Enter")  # run it, stay on it
+        try:
+            expect(prompt).to_have_text(_QUEUED, timeout=10_000)
+            return
+        except AssertionError:
+            _wait_kernel_idle(page)
+    raise AssertionError(f"the cell never queued: its prompt reads {prompt.inner_text()!r}")
+
+
+def _show_side_panel(page, panel_id: str):
+    """Open a left side panel by its tab (a click on the current tab would close it)."""
+    tab = page.locator(f'.lm-TabBar-tab[data-id="{panel_id}"]')
+    expect(tab).to_be_visible()
+    if "lm-mod-current" not in (tab.get_attribute("class") or ""):
+        tab.click()
+    panel = page.locator(f"#{panel_id}")
+    expect(panel).to_be_visible()
+    return panel
+
+
+# --- 1. launcher -------------------------------------------------------------------------------
+
+
+def test_launcher_section_and_first_trial_notebook(page, lab) -> None:
+    before = set(lab.root.glob("*.ipynb"))
+    lab.open(page)
+    section = page.locator(".jp-Launcher-section").filter(
+        has=page.locator(".jp-Launcher-sectionTitle", has_text=re.compile(r"^wavebench$")))
+    expect(section).to_have_count(1)
+    cards = section.locator(".jp-LauncherCard")
+    expect(cards).to_have_count(4)
+    expect(section.locator(".jp-LauncherCard-label")).to_have_text(CARDS)
+
+    cards.filter(has_text="First trial").click()
+    first_cell = page.locator(".jp-NotebookPanel:visible .jp-Notebook .jp-Cell").first
+    expect(first_cell).to_contain_text("Caution", timeout=LONG)
+
+    # the notebook is on disk too; read back with nbformat, its first cell is the caution
+    deadline = time.monotonic() + 30
+    new: set[Path] = set()
+    while not new and time.monotonic() < deadline:
+        new = set(lab.root.glob("*.ipynb")) - before
+        time.sleep(0.2)
+    assert len(new) == 1, new
+    nb = None
+    while time.monotonic() < deadline:  # the template is written after the untitled file is created
+        nb = nbformat.read(next(iter(new)), as_version=4)
+        if nb.cells:
+            break
+        time.sleep(0.2)
+    assert nb is not None and nb.cells, "the new notebook stayed empty on disk"
+    assert "Caution" in nb.cells[0].source
+
+
+# --- 2. Campaigns panel ------------------------------------------------------------------------
+
+
+def test_campaigns_panel_lists_stores_and_follows_a_campaign(page, lab) -> None:
+    runs = lab.root / "runs"
+    _make_store(runs / "a")
+    scenario = _scenario_name(runs / "a" / "spec.toml")
+    lab.open(page)
+    panel = _show_side_panel(page, "wavebench-campaigns")
+    stores = panel.locator(".wb-Store")
+    expect(stores).to_have_count(1, timeout=30_000)
+    expect(stores.first.locator(".wb-Store-path")).to_have_text("runs/a")
+    expect(stores.first.locator(".wb-Store-scenario")).to_have_text(scenario)
+    manifest = json.loads((runs / "a" / "manifest.json").read_text(encoding="utf-8"))
+    assert manifest.get("trials") in (None, 4)
+    expect(stores.first.locator(".wb-Store-count")).to_have_text("4 / 4 trials")
+
+    # a second finished store appears while the panel is open: Refresh shows it
+    _make_store(runs / "b")
+    panel.locator(".wb-Campaigns-refresh").click()
+    expect(panel.locator(".wb-Store-path")).to_have_text(["runs/a", "runs/b"], timeout=30_000)
+
+    # a campaign in progress: a plan for 8 trials, trials 0-2 done just now
+    c = runs / "c" / "chunks"
+    c.mkdir(parents=True)
+    plan = {"spec_hash": "0" * 64, "seed": 7, "trials": 8, "batch_size": 3, "record": False, "until": None,
+            "series_attrs": {"spec_hash": "0" * 64, "scenario": "Invented leg in progress", "decimation_s": 1.0}}  # fmt: skip
+    (c / "plan.json").write_text(json.dumps(plan), encoding="utf-8")
+    (c / "metrics-000000000-000000002.parquet").write_bytes(b"")
+    panel.locator(".wb-Campaigns-refresh").click()
+    running = panel.locator(".wb-Store").filter(has=page.locator(".wb-Store-path", has_text=re.compile(r"^runs/c$")))
+    expect(running.locator(".wb-Store-state")).to_have_text("running", timeout=30_000)
+    expect(running.locator(".wb-Store-count")).to_have_text("3 / 8 trials")
+    # the next chunk lands: the panel polls by itself, no click
+    (c / "metrics-000000003-000000005.parquet").write_bytes(b"")
+    expect(running.locator(".wb-Store-count")).to_have_text("6 / 8 trials", timeout=30_000)
+
+
+# --- 3. spec view ------------------------------------------------------------------------------
+
+
+def test_open_with_wavebench_spec_shows_summary(page, lab) -> None:
+    from wavebench.spec import example_spec_path
+
+    spec = lab.root / "leg_spec.toml"
+    shutil.copy(example_spec_path("skerrow_sound"), spec)
+    scenario = _scenario_name(spec)
+    lab.open(page)
+    browser = _show_side_panel(page, "filebrowser")
+    item = browser.locator(".jp-DirListing-item").filter(
+        has=page.locator(".jp-DirListing-itemText", has_text=re.compile(r"^leg_spec\.toml$")))
+    expect(item).to_have_count(1, timeout=30_000)
+    item.click(button="right")
+    page.locator(".lm-Menu-item", has_text="Open With").hover()
+    page.locator(".lm-Menu-item", has_text=re.compile(r"^\s*wavebench spec\s*$")).click()
+    summary = page.locator(".wb-SpecSummary:visible")
+    expect(summary.locator("h2")).to_have_text(scenario, timeout=30_000)
+
+
+# --- 4. a live panel in a running notebook -----------------------------------------------------
+
+SEA_NOTEBOOK_SOURCE = (
+    "from wavebench.spec import load_spec\n"
+    "from wavebench.ui import SeaPanel\n"
+    "panel = SeaPanel(load_spec('sea_spec.toml', settings=['sea.hs_m=1.2']))\n"
+    "panel"
+)
+
+
+def _write_notebook(path: Path, cells: list) -> None:
+    nb = nbformat.v4.new_notebook(cells=cells)
+    nb.metadata["kernelspec"] = {"name": "python3", "display_name": "Python 3 (ipykernel)", "language": "python"}
+    nbformat.write(nb, path)
+
+
+def _hs_input(page):
+    row = page.locator(".widget-hbox").filter(
+        has=page.locator("> .widget-label", has_text=re.compile(r"^hs_m \[m\]$")))
+    return row.locator("input[type='number']").first
+
+
+def test_sea_panel_renders_and_hs_redraws_spectrum(page, lab) -> None:
+    from wavebench.spec import example_spec_path
+
+    shutil.copy(example_spec_path("skerrow_sound"), lab.root / "sea_spec.toml")
+    _write_notebook(lab.root / "sea_live.ipynb", [nbformat.v4.new_code_cell(SEA_NOTEBOOK_SOURCE)])
+    lab.open(page, "lab/tree/sea_live.ipynb")
+    expect(page.locator(".jp-NotebookPanel:visible .jp-CodeCell").first).to_be_visible(timeout=LONG)
+    _wait_kernel_idle(page)
+    _run_first_cell(page)
+
+    figures = page.locator(".jp-OutputArea .bqplot.figure")
+    expect(figures.first.locator("svg").first).to_be_visible(timeout=LONG)
+    spectrum = figures.filter(has_text="wave spectrum").first
+    line = spectrum.locator("path.line").first
+    expect(line).to_have_attribute("d", re.compile(r"^M.+L"), timeout=30_000)  # SVG path data: moveto, lineto
+    d_before = line.get_attribute("d")
+    expect(spectrum).to_contain_text("Hs 1.2 m")
+
+    # the [sea] controls sit in a collapsed accordion section: open it
+    header = page.locator(".jp-OutputArea .jupyter-widget-Collapse-header", has_text=re.compile(r"^\s*sea\s*$"))
+    header.first.click()
+    hs = _hs_input(page)
+    expect(hs).to_have_value(re.compile(r"^1\.2$"))
+    hs.fill("2.5")
+    hs.press("Enter")
+    expect(spectrum).to_contain_text("Hs 2.5 m", timeout=30_000)
+    expect(line).not_to_have_attribute("d", d_before or "", timeout=30_000)
+
+
+# --- 5. a shared notebook without widget state -------------------------------------------------
+#
+# The panel's output is a bundle of a widget view and its static twin (text/html). A notebook
+# saved without widget state can show only the twin. JupyterLab picks, among the output's MIME
+# types, the richest one it may render: in an untrusted notebook only "safe" renderers count
+# (the widget renderer is not one, sanitised HTML is), in a trusted one the widget view wins.
+
+TWIN_ROW = re.compile(r"Hs \[m\]\s*1\.2")  # the twin's value table (Hs set to 1.2 m in the notebook)
+
+
+def _shared_notebook(lab, name: str, *, trusted: bool) -> None:
+    from wavebench.spec import example_spec_path, load_spec
+    from wavebench.ui import SeaPanel
+
+    # the output as a kernel would have sent it (widget view + static twin), saved without widget state
+    bundle = SeaPanel(load_spec(example_spec_path("skerrow_sound"), settings=["sea.hs_m=1.2"]))._repr_mimebundle_()
+    assert "application/vnd.jupyter.widget-view+json" in bundle and "text/html" in bundle
+    cell = nbformat.v4.new_code_cell(SEA_NOTEBOOK_SOURCE, execution_count=1)
+    cell.outputs = [nbformat.v4.new_output("display_data", data=bundle)]
+    path = lab.root / name
+    _write_notebook(path, [cell])
+    assert "widgets" not in nbformat.read(path, as_version=4).metadata
+    if trusted:  # signed with the server's own notebook secret (its JUPYTER_DATA_DIR), as `jupyter trust` does
+        trust = Path(sys.executable).with_name("jupyter-trust")
+        subprocess.run([str(trust), str(path)], env=lab.env, check=True, capture_output=True, timeout=60)
+
+
+def _open_output(page, lab, name: str):
+    lab.open(page, f"lab/tree/{name}")
+    output = page.locator(".jp-NotebookPanel:visible .jp-OutputArea-output").first
+    expect(output).to_be_visible(timeout=LONG)
+    _wait_kernel_idle(page)  # the widget manager has connected: whatever it will draw is drawn
+    return output
+
+
+@pytest.mark.filterwarnings("ignore::DeprecationWarning")
+def test_untrusted_notebook_without_widget_state_shows_twin_table(page, lab) -> None:
+    _shared_notebook(lab, "shared_untrusted.ipynb", trusted=False)
+    output = _open_output(page, lab, "shared_untrusted.ipynb")
+    expect(output).to_contain_text(TWIN_ROW, timeout=30_000)
+    expect(output).to_contain_text("sea state 3")
+    expect(output).not_to_contain_text("model not found")
+
+
+@pytest.mark.xfail(strict=True, raises=AssertionError, reason="JupyterLab's HTML sanitiser removes the twin's inline <svg> in an untrusted "
+                   "notebook: only the axis text is left (an <img> with a data: SVG URI might survive; follow-up)")
+@pytest.mark.filterwarnings("ignore::DeprecationWarning")
+def test_untrusted_notebook_without_widget_state_shows_twin_plots(page, lab) -> None:
+    _shared_notebook(lab, "shared_plots.ipynb", trusted=False)
+    output = _open_output(page, lab, "shared_plots.ipynb")
+    expect(output).to_contain_text(TWIN_ROW, timeout=30_000)
+    expect(output.locator("svg").first).to_be_visible(timeout=10_000)
+
+
+@pytest.mark.xfail(strict=True, raises=AssertionError, reason="in a trusted notebook the widget view wins over the twin and, without saved "
+                   "widget state, ipywidgets draws 'Error displaying widget: model not found'; a fallback renderer "
+                   "in the wavebench extension could show the text/html twin instead (follow-up)")
+@pytest.mark.filterwarnings("ignore::DeprecationWarning")
+def test_trusted_notebook_without_widget_state_shows_twin(page, lab) -> None:
+    _shared_notebook(lab, "shared_trusted.ipynb", trusted=True)
+    output = _open_output(page, lab, "shared_trusted.ipynb")
+    expect(output).to_contain_text(TWIN_ROW, timeout=10_000)
