@@ -14,7 +14,11 @@ a resume refuses a store planned differently.
 
 :func:`finished_chunks` reads back the chunks that are finished and
 readable; a chunk whose files cannot be read (cut short, corrupted, missing)
-is left out with a warning and runs again. When the campaign completes, the
+is left out with a warning and runs again. A chunk that failed as a whole
+(its trials recorded as failed with the error) is finished like any other
+and is not run again on resume, so a resumed store equals the uninterrupted
+one even then; rerun such a campaign afresh if the failure was passing.
+When the campaign completes, the
 time series are already in place (nothing is consolidated or copied);
 ``metrics.parquet``, ``verdicts.json`` and ``manifest.json`` are written by
 :func:`~wavebench.campaign.store.write_store` and the chunk folder removed.
