@@ -45,7 +45,7 @@ from ..spec.fields import DIST_TYPES, representative
 from ..spec.schema import Spec
 from ..trial.setup import build_seabed
 from .controls import SpecEditor
-from .twin import Twinned
+from .twin import EditorPanel
 
 __all__ = [
     "ARROW_GRID",
@@ -524,7 +524,7 @@ def _nan_rows(rows: list[np.ndarray]) -> np.ndarray:
     return out
 
 
-class EnvironmentPanel(Twinned):
+class EnvironmentPanel(EditorPanel):
     """The ``[current]``, ``[wind]`` and ``[seabed]`` controls with a map and records.
 
     Parameters
@@ -598,19 +598,7 @@ class EnvironmentPanel(Twinned):
         figs = widgets.HBox([self.map_fig, widgets.VBox([self.record_fig, self.table])],
                             layout=widgets.Layout(flex_flow="row wrap"))  # fmt: skip
         self.widget = widgets.VBox([self.editor.widget, figs, self.notes])
-        self._key: Any = None
-        self.view: EnvironmentView | None = None
-        self._redraw(self.editor.spec)
-        self.editor.observe(lambda change: self._redraw(change["new"]), "spec")
-
-    @property
-    def spec(self) -> Spec:
-        """The current valid spec."""
-        return self.editor.spec
-
-    def set_spec(self, spec: Spec) -> None:
-        """Show another spec (controls, map and records)."""
-        self.editor.set_spec(spec)
+        self._follow_editor()
 
     def _redraw(self, spec: Spec) -> None:
         key = (spec.current, spec.wind, spec.seabed, spec.mission, spec.campaign.seed, spec.scenario.duration_s)

@@ -44,7 +44,7 @@ from ..spec.distributions import distribution_to_data
 from ..spec.fields import DIST_TYPES, representative
 from ..spec.schema import Spec
 from .controls import SpecEditor
-from .twin import Twinned
+from .twin import EditorPanel
 
 __all__ = ["RECORD_DT_S", "RECORD_MAX_S", "SeaPanel", "SeaView", "sea_view"]
 
@@ -193,7 +193,7 @@ def _line_figure(title: str, xlabel: str, ylabel: str, color: str) -> tuple[bqpl
     return fig, line
 
 
-class SeaPanel(Twinned):
+class SeaPanel(EditorPanel):
     """The ``[sea]`` controls with the spectrum, spreading and a sample record.
 
     Parameters
@@ -240,19 +240,7 @@ class SeaPanel(Twinned):
         figs = widgets.HBox([self.spectrum_fig, self.spreading_fig, self.elevation_fig],
                             layout=widgets.Layout(flex_flow="row wrap"))  # fmt: skip
         self.widget = widgets.VBox([self.editor.widget, self.code_label, figs, self.notes])
-        self._key: Any = None
-        self.view: SeaView | None = None
-        self._redraw(self.editor.spec)
-        self.editor.observe(lambda change: self._redraw(change["new"]), "spec")
-
-    @property
-    def spec(self) -> Spec:
-        """The current valid spec."""
-        return self.editor.spec
-
-    def set_spec(self, spec: Spec) -> None:
-        """Show another spec (controls and plots)."""
-        self.editor.set_spec(spec)
+        self._follow_editor()
 
     def _redraw(self, spec: Spec) -> None:
         key = (spec.sea, spec.campaign.seed, spec.scenario.duration_s)

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from typing import Any
 
-__all__ = ["TWIN_CLASS", "Twinned", "twin_bundle"]
+__all__ = ["TWIN_CLASS", "EditorPanel", "Twinned", "twin_bundle"]
 
 #: CSS class on the outer element of every static twin, so tests and the
 #: ``verify`` command can find them in saved outputs.
@@ -69,3 +69,32 @@ class Twinned:
 
     def _repr_mimebundle_(self, include: Any = None, exclude: Any = None) -> dict[str, Any]:
         return twin_bundle(self.widget, self.static_html(), title=self.title)
+
+
+class EditorPanel(Twinned):
+    """A panel made of a :class:`~wavebench.ui.controls.SpecEditor` and figures redrawn from its spec.
+
+    Subclasses set ``self.editor`` and their widgets, implement
+    ``_redraw(spec)``, and call :meth:`_follow_editor` last in ``__init__``.
+    """
+
+    editor: Any
+
+    @property
+    def spec(self) -> Any:
+        """The current valid spec."""
+        return self.editor.spec
+
+    def set_spec(self, spec: Any) -> None:
+        """Show another spec (controls and figures)."""
+        self.editor.set_spec(spec)
+
+    def _redraw(self, spec: Any) -> None:
+        raise NotImplementedError
+
+    def _follow_editor(self) -> None:
+        """Draw the editor's spec now and again after every accepted change."""
+        self._key: Any = None
+        self.view: Any = None
+        self._redraw(self.editor.spec)
+        self.editor.observe(lambda change: self._redraw(change["new"]), "spec")
