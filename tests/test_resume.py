@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import os
 import signal
 import subprocess
@@ -30,6 +31,24 @@ def spec():
 @pytest.fixture(scope="module")
 def uninterrupted(spec):
     return run_campaign(spec, progress=False)
+
+
+@contextlib.contextmanager
+def _write_fails_at(monkeypatch, n: int, error: OSError):
+    """Inside the block, the n-th chunk write raises ``error`` (a full disk, an I/O error)."""
+    real, calls = chunk_files.write_chunk, {"n": 0}
+
+    def failing(folder, out):
+        calls["n"] += 1
+        if calls["n"] == n:
+            raise error
+        real(folder, out)
+
+    monkeypatch.setattr(chunk_files, "write_chunk", failing)
+    try:
+        yield
+    finally:
+        monkeypatch.setattr(chunk_files, "write_chunk", real)
 
 
 def _same_as(store: Path, ref) -> None:
@@ -67,19 +86,9 @@ def test_a_killed_campaign_resumes_to_the_same_bits(tmp_path, uninterrupted) -> 
 
 def test_a_corrupted_chunk_runs_again(tmp_path, spec, uninterrupted, monkeypatch) -> None:
     store = tmp_path / "store"
-    calls = {"n": 0}
-    real = chunk_files.write_chunk
-
-    def full_disk(folder, out):
-        calls["n"] += 1
-        if calls["n"] == 4:
-            raise OSError(28, "No space left on device")
-        real(folder, out)
-
-    monkeypatch.setattr(chunk_files, "write_chunk", full_disk)
-    with pytest.raises(OSError, match=r"No space left on device.*kept.*--resume"):
+    with _write_fails_at(monkeypatch, 4, OSError(28, "No space left on device")), \
+            pytest.raises(OSError, match=r"No space left on device.*kept.*--resume"):
         run_campaign(spec, progress=False, store=store)
-    monkeypatch.setattr(chunk_files, "write_chunk", real)
     written = sorted((store / "chunks").glob("metrics-*.parquet"))
     assert len(written) == 3  # the chunks finished before the failing write are kept
     written[1].write_bytes(written[1].read_bytes()[:40])  # a chunk file cut short
@@ -91,19 +100,8 @@ def test_a_corrupted_chunk_runs_again(tmp_path, spec, uninterrupted, monkeypatch
 
 def test_resume_refuses_a_differently_planned_store(tmp_path, spec, monkeypatch) -> None:
     store = tmp_path / "store"
-    real = chunk_files.write_chunk
-    written = {"n": 0}
-
-    def stop_after_one(folder, out):
-        written["n"] += 1
-        if written["n"] > 1:
-            raise OSError(5, "Input/output error")
-        real(folder, out)
-
-    monkeypatch.setattr(chunk_files, "write_chunk", stop_after_one)
-    with pytest.raises(OSError):
+    with _write_fails_at(monkeypatch, 2, OSError(5, "Input/output error")), pytest.raises(OSError):
         run_campaign(spec, progress=False, store=store)
-    monkeypatch.setattr(chunk_files, "write_chunk", real)
     with pytest.raises(ParameterError, match=r"planned differently \(.*seed: store 20240611, now 20240612"):
         run_campaign(spec, seed=spec.campaign.seed + 1, progress=False, store=store, resume=True)
     with pytest.raises(ParameterError, match="no unfinished campaign"):
@@ -164,18 +162,9 @@ def test_a_sequential_campaign_resumes_and_stops_where_it_would_have(tmp_path, m
     assert len(whole.metrics) == 30 and whole.sequential["easy"].decision == "pass"
 
     store = tmp_path / "store"
-    real, calls = chunk_files.write_chunk, {"n": 0}
-
-    def fail_second_write(folder, out):
-        calls["n"] += 1
-        if calls["n"] == 2:
-            raise OSError(28, "No space left on device")
-        real(folder, out)
-
-    monkeypatch.setattr(chunk_files, "write_chunk", fail_second_write)
-    with pytest.raises(OSError, match="No space left"):
+    with _write_fails_at(monkeypatch, 2, OSError(28, "No space left on device")), \
+            pytest.raises(OSError, match="No space left"):
         run_campaign(spec, progress=False, until=plan, store=store)
-    monkeypatch.setattr(chunk_files, "write_chunk", real)
     other = SequentialPlan(confidence=0.95, max_trials=60, first_look=20, look_every=20)
     with pytest.raises(ParameterError, match="planned differently"):
         run_campaign(spec, progress=False, until=other, store=store, resume=True)
@@ -187,18 +176,8 @@ def test_a_sequential_campaign_resumes_and_stops_where_it_would_have(tmp_path, m
 
 def test_a_damaged_time_series_chunk_runs_again(tmp_path, spec, uninterrupted, monkeypatch) -> None:
     store = tmp_path / "store"
-    real, calls = chunk_files.write_chunk, {"n": 0}
-
-    def stop_at_fifth(folder, out):
-        calls["n"] += 1
-        if calls["n"] == 5:
-            raise OSError(5, "Input/output error")
-        real(folder, out)
-
-    monkeypatch.setattr(chunk_files, "write_chunk", stop_at_fifth)
-    with pytest.raises(OSError):
+    with _write_fails_at(monkeypatch, 5, OSError(5, "Input/output error")), pytest.raises(OSError):
         run_campaign(spec, progress=False, store=store)
-    monkeypatch.setattr(chunk_files, "write_chunk", real)
     series = store / "timeseries.zarr"
     # Zarr format 3 chunk keys <array>/c/<i>/<j>: flip bytes in one chunk (its CRC-32C no longer matches)
     # and delete another (it would read back as fill values without complaint)
