@@ -1,11 +1,14 @@
 """The built wheel carries the prebuilt JupyterLab extension and the server-extension switch.
 
-The wheel is built from this checkout (``pip wheel``, the project's own build
-backend) and installed without dependencies into an empty prefix; JupyterLab's
-own listing command, pointed at that prefix through ``JUPYTER_PATH``, must
-then report the extension enabled and OK — what a user sees after
-``pip install wavebench``, with no Node anywhere — and the installed config
-must switch the server route on.
+The wheel is built from this checkout (``pip wheel``: the project's build
+backend, whose hatch-jupyter-builder hook builds widgets/ with npm when the
+built extension is not there yet). It is then installed, with its
+dependencies and JupyterLab, into a fresh virtual environment whose ``PATH``
+holds that environment's own scripts and nothing else, so no Node can take
+part — what a user sees after ``pip install wavebench``. JupyterLab's own
+listing commands, run from that environment, must report the front-end
+extension enabled and OK and the server extension enabled, and the installed
+config must switch the server route on.
 """
 
 from __future__ import annotations
@@ -24,7 +27,7 @@ ANSI = re.compile(r"\x1b\[[0-9;]*m")
 
 
 @pytest.fixture(scope="module")
-def prefix(tmp_path_factory: pytest.TempPathFactory) -> Path:
+def fresh_venv(tmp_path_factory: pytest.TempPathFactory) -> Path:
     tmp = tmp_path_factory.mktemp("wheel")
     subprocess.run([sys.executable, "-m", "pip", "wheel", "--no-deps", "-q", "-w", str(tmp / "dist"), str(ROOT)],
                    check=True, capture_output=True, text=True)  # fmt: skip
@@ -35,31 +38,48 @@ def prefix(tmp_path_factory: pytest.TempPathFactory) -> Path:
                    "share/jupyter/labextensions/@wavebench/labextension/install.json",
                    "etc/jupyter/jupyter_server_config.d/wavebench.json"):  # fmt: skip
         assert data + member in names, member
-    subprocess.run([sys.executable, "-m", "pip", "install", "--no-deps", "-q", "--prefix", str(tmp / "prefix"),
-                    str(wheel)], check=True, capture_output=True, text=True)  # fmt: skip
-    return tmp / "prefix"
+    static = data + "share/jupyter/labextensions/@wavebench/labextension/static/"
+    assert any(n.startswith(static + "remoteEntry.") and n.endswith(".js") for n in names), "no remoteEntry*.js"
+    assert static + "style.js" in names
+    venv = tmp / "fresh"
+    subprocess.run([sys.executable, "-m", "venv", str(venv)], check=True, capture_output=True, text=True)
+    subprocess.run([str(venv / "bin" / "python"), "-m", "pip", "install", "-q", str(wheel), "jupyterlab"],
+                   check=True, capture_output=True, text=True, env=_bare_env(venv))  # fmt: skip
+    return venv
 
 
-def _jupyter(args: list[str], env: dict[str, str]) -> str:
-    out = subprocess.run([sys.executable, "-m", "jupyter", *args], capture_output=True, text=True, env=env,
+def _bare_env(venv: Path) -> dict[str, str]:
+    """The environment of a shell in ``venv`` with nothing else on PATH (so no Node)."""
+    keep = {k: v for k, v in os.environ.items() if k in ("HOME", "LANG", "LC_ALL", "TMPDIR") or k.startswith("PIP_")}
+    return {**keep, "PATH": str(venv / "bin"), "VIRTUAL_ENV": str(venv)}
+
+
+def _jupyter(venv: Path, args: list[str], tmp_path: Path) -> str:
+    env = {**_bare_env(venv), "JUPYTER_CONFIG_DIR": str(tmp_path / "config"), "JUPYTER_DATA_DIR": str(tmp_path / "data")}
+    out = subprocess.run([str(venv / "bin" / "jupyter"), *args], capture_output=True, text=True, env=env,
                          check=True)  # fmt: skip
     return ANSI.sub("", out.stdout + out.stderr)
 
 
-def test_labextension_list_shows_the_installed_extension_enabled_and_ok(prefix: Path, tmp_path: Path) -> None:
-    env = {**os.environ, "JUPYTER_PATH": str(prefix / "share" / "jupyter"),
-           "JUPYTER_CONFIG_DIR": str(tmp_path / "config")}  # fmt: skip
-    text = _jupyter(["labextension", "list"], env)
-    section = text.split(str(prefix / "share" / "jupyter" / "labextensions"), 1)[1].split("\n\n", 1)[0]
+def test_labextension_list_shows_the_installed_extension_enabled_and_ok(fresh_venv: Path, tmp_path: Path) -> None:
+    text = _jupyter(fresh_venv, ["labextension", "list"], tmp_path)
+    section = text.split(str(fresh_venv / "share" / "jupyter" / "labextensions"), 1)[1].split("\n\n", 1)[0]
     assert re.search(r"@wavebench/labextension v\S+ enabled OK \(python, wavebench\)", section), text
 
 
-def test_the_installed_config_switches_the_server_route_on(prefix: Path) -> None:
-    # what `jupyter server extension list` reads from <prefix>/etc/jupyter, and its own validation of the module
+def test_server_extension_list_shows_the_route_enabled(fresh_venv: Path, tmp_path: Path) -> None:
+    text = _jupyter(fresh_venv, ["server", "extension", "list"], tmp_path)
+    assert re.search(r"wavebench\.labext enabled", text), text
+    assert re.search(r"wavebench\.labext\s+OK", text), text
+
+
+def test_the_installed_config_switches_the_server_route_on(fresh_venv: Path) -> None:
+    # what `jupyter server extension list` reads from <venv>/etc/jupyter, and jupyter_server's own validation of
+    # the installed module, run in the fresh environment
     import json
 
-    from jupyter_server.extension.utils import validate_extension
-
-    conf = json.loads((prefix / "etc" / "jupyter" / "jupyter_server_config.d" / "wavebench.json").read_text())
+    conf = json.loads((fresh_venv / "etc" / "jupyter" / "jupyter_server_config.d" / "wavebench.json").read_text())
     assert conf == {"ServerApp": {"jpserver_extensions": {"wavebench.labext": True}}}
-    validate_extension("wavebench.labext")  # raises when the module has no extension points
+    check = "from jupyter_server.extension.utils import validate_extension as v; v('wavebench.labext')"
+    subprocess.run([str(fresh_venv / "bin" / "python"), "-c", check], check=True, capture_output=True, text=True,
+                   env=_bare_env(fresh_venv))  # fmt: skip
