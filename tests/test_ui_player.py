@@ -14,12 +14,14 @@ interpolation (scipy's ``RegularGridInterpolator``, method "linear").
 from __future__ import annotations
 
 import math
+import re
 import sys
 from pathlib import Path
 
 import numpy as np
 import pytest
 
+from twin_images import twin_svgs
 from wavebench.campaign import read_store, run_campaign, write_store
 from wavebench.campaign.replay import replay_trial
 from wavebench.spec.io import example_spec_path
@@ -192,15 +194,19 @@ def test_static_twin_holds_svg_and_the_metrics_and_no_script(player: TrialPlayer
     assert "application/vnd.jupyter.widget-view+json" in bundle
     page = bundle["text/html"]
     assert TWIN_CLASS in page
-    # the map, one chart per time plot, and a second for the actuator plot's right axis (yaw moment, another unit)
-    assert page.count("<svg") == 1 + len(player.time_figures) + ("actuator" in player.time_figures)
-    assert "<script" not in page.lower()
-    assert "xte_p95_m" in page and f"Trial {TRIAL}" in page
-    assert f"t = {player.time_s[player.last_index]:g} s" in page
+    # the map, one chart per time plot, and a second for the actuator plot's right axis (yaw moment, another unit),
+    # each an <img> data URI holding the panel's own SVG
+    charts = twin_svgs(page)
+    assert len(charts) == 1 + len(player.time_figures) + ("actuator" in player.time_figures) and "<svg" not in page
+    assert charts == re.findall(r"<svg\b.*?</svg>", player.static_html(), re.S)
+    assert "<script" not in page.lower() and not any("<script" in c.lower() for c in charts)
+    shown = page + "".join(charts)  # the tables and the decoded charts
+    assert "xte_p95_m" in shown and f"Trial {TRIAL}" in shown
+    assert f"t = {player.time_s[player.last_index]:g} s" in shown
     # the depth under the map, shaded by level, with the range of depths in the view
-    assert page.count('class="depth"') > 10
+    assert shown.count('class="depth"') > 10
     lo, hi = np.nanmin(player.marks["depth"].color), np.nanmax(player.marks["depth"].color)
-    assert player.depth_note == f"depth {lo:.1f} to {hi:.1f} m" and player.depth_note in page
+    assert player.depth_note == f"depth {lo:.1f} to {hi:.1f} m" and player.depth_note in shown
 
 
 def test_the_actuator_plot_is_the_recorded_surge_force_and_yaw_moment(store: Path, player: TrialPlayer) -> None:

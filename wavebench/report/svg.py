@@ -9,6 +9,7 @@ as plain SVG text.
 
 from __future__ import annotations
 
+import hashlib
 import html
 import math
 from collections.abc import Sequence
@@ -97,6 +98,14 @@ def _fmt(v: float) -> str:
     return f"{v:g}"
 
 
+def _content_id(*parts: object) -> str:
+    """12 hex digits of a SHA-1 over ``parts`` (arrays by their bytes): stable for the same content."""
+    h = hashlib.sha1()
+    for p in parts:
+        h.update(np.ascontiguousarray(p).tobytes() if isinstance(p, np.ndarray) else repr(p).encode())
+    return h.hexdigest()[:12]
+
+
 def line_chart(
     series: Sequence[Series],
     *,
@@ -179,7 +188,10 @@ def line_chart(
         f'<text x="14" y="{top + ph / 2}" text-anchor="middle" '
         f'transform="rotate(-90 14 {top + ph / 2})">{html.escape(ylabel)}</text>'
     )
-    out.append(f'<clipPath id="plot{id(series)}"><rect x="{left}" y="{top}" width="{pw}" height="{ph}"/></clipPath>')
+    # the clip id follows the content (the same chart gives the same bytes on every run; two different charts
+    # in one page get different ids)
+    clip = "plot" + _content_id(title, xlabel, ylabel, width, height, x0, x1, y0, y1, *xs, *ys)
+    out.append(f'<clipPath id="{clip}"><rect x="{left}" y="{top}" width="{pw}" height="{ph}"/></clipPath>')
     legend = []
     for k, (s, x, y) in enumerate(zip(series, xs, ys, strict=True)):
         color = s.color or PALETTE[k % len(PALETTE)]
@@ -194,7 +206,7 @@ def line_chart(
         dash = ' stroke-dasharray="5,3"' if s.dashed else ""
         out.append(
             f'<path d="{" ".join(parts)}" fill="none" stroke="{color}" stroke-width="{s.width}" '
-            f'stroke-opacity="{s.opacity}"{dash} clip-path="url(#plot{id(series)})"/>'
+            f'stroke-opacity="{s.opacity}"{dash} clip-path="url(#{clip})"/>'
         )
         if s.label:
             legend.append((s.label, color, s.dashed))
