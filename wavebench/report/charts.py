@@ -1,8 +1,10 @@
-"""Static SVG histograms and percentile fan charts for campaign reports.
+"""Static SVG charts for campaign reports and the static twins of the panels.
 
-Two chart kinds on top of :mod:`wavebench.report.svg`: a histogram of one
-per-trial metric (with optional requirement markers) and a band chart that
-fills the area between percentile curves over time. Both return
+Chart kinds on top of :mod:`wavebench.report.svg`: a histogram of one
+per-trial metric (with optional requirement markers), a band chart that
+fills the area between percentile curves over time, signed horizontal bars,
+a matrix of shares, a scatter of points in coloured groups, and a map (east
+to the right, north up, equal scales) over a shaded depth raster. All return
 :class:`~wavebench.report.svg.Svg` text with no script and no external
 resource, so they can be inlined in a self-contained HTML page.
 
@@ -27,10 +29,14 @@ from ..core.errors import ParameterError
 from .svg import PALETTE, Series, Svg, _fmt, nice_ticks
 
 __all__ = [
+    "MAP_DEPTH_COLORS",
+    "MAP_DEPTH_LEVELS",
     "SHARE_COLORS",
     "band_chart",
     "histogram_chart",
     "histogram_counts",
+    "map_chart",
+    "scatter_chart",
     "share_color",
     "share_matrix_chart",
     "signed_bar_chart",
@@ -724,5 +730,215 @@ def share_matrix_chart(
         X += 48
     out.append(f'<rect x="{X:.1f}" y="{Y - 9}" width="14" height="11" fill="url(#{hatch})" stroke="#ccc"/>')
     out.append(f'<text x="{X + 17:.1f}" y="{Y}">fewer than {int(min_count)} trials</text>')
+    out.append("</svg>")
+    return Svg("\n".join(out))
+
+
+def scatter_chart(
+    x: ArrayLike,
+    y: ArrayLike,
+    groups: Sequence[tuple[ArrayLike, str, str]],
+    *,
+    title: str = "",
+    xlabel: str = "",
+    ylabel: str = "",
+    hline: float | None = None,
+    hline_label: str = "",
+    width: int = 540,
+    height: int = 320,
+) -> Svg:
+    """Render points as SVG, one colour per group.
+
+    Parameters
+    ----------
+    x, y : array_like of shape (n,)
+        Coordinates; points with a NaN are not drawn.
+    groups : sequence of (mask, label, colour)
+        ``mask`` (bool, shape (n,)) picks the group's points.
+    title, xlabel, ylabel : str
+    hline : float, optional
+        A dashed horizontal line (e.g. a requirement's threshold).
+    hline_label : str
+    width, height : int
+        Size [px].
+
+    Returns
+    -------
+    Svg
+        Each point is ``<circle class="point">`` with its group in ``data-group``.
+
+    Examples
+    --------
+    >>> svg = scatter_chart([0, 1, 2], [1, 2, 3], [([True, False, True], "met", "#2e7d32"),
+    ...                                             ([False, True, False], "not met", "#b3261e")])
+    >>> svg.count('class="point"'), svg.count('data-group="met"')
+    (3, 2)
+    """
+    xv, yv = np.asarray(x, dtype=float), np.asarray(y, dtype=float)
+    ok = np.isfinite(xv) & np.isfinite(yv)
+
+    def span(a: np.ndarray, extra: Sequence[float] = ()) -> tuple[float, float]:
+        vals = np.concatenate([a[ok], np.asarray(extra, dtype=float)])
+        if vals.size == 0:
+            return 0.0, 1.0
+        lo, hi = float(vals.min()), float(vals.max())
+        if hi == lo:
+            lo, hi = lo - 0.5, hi + 0.5
+        pad = 0.05 * (hi - lo)
+        return lo - pad, hi + pad
+
+    ax = _Axes(
+        width=width,
+        height=height,
+        top=48 if title else 30,
+        xlim=span(xv),
+        ylim=span(yv, [hline] if hline is not None and math.isfinite(hline) else []),
+    )
+    out = ax.open(title, f"n = {int(ok.sum())}")
+    ax.grid(out, xlabel, ylabel)
+    if hline is not None and math.isfinite(hline):
+        Y = float(ax.py(hline))
+        out.append(
+            f'<line class="threshold" x1="{ax.left}" y1="{Y:.2f}" x2="{ax.left + ax.pw}" y2="{Y:.2f}" '
+            f'stroke="{_MARKER}" stroke-dasharray="6,3" stroke-width="1.4"/>'
+        )
+        if hline_label:
+            out.append(
+                f'<text x="{ax.left + ax.pw - 4}" y="{Y - 4:.1f}" text-anchor="end" fill="{_MARKER}">'
+                f"{html.escape(hline_label)}</text>"
+            )
+    X = float(ax.left)
+    for mask, label, color in groups:
+        m = np.asarray(mask, dtype=bool) & ok
+        for a, b in zip(ax.px(xv[m]), ax.py(yv[m]), strict=True):
+            out.append(
+                f'<circle class="point" cx="{a:.1f}" cy="{b:.1f}" r="3" fill="{color}" fill-opacity="0.75" '
+                f'data-group="{html.escape(label)}"/>'
+            )
+        out.append(
+            f'<circle cx="{X + 5:.1f}" cy="{ax.top - 10}" r="4" fill="{color}"/>'
+            f'<text x="{X + 13:.1f}" y="{ax.top - 6}">{html.escape(label)} ({int(m.sum())})</text>'
+        )
+        X += 30 + 6.6 * len(label) + 20
+    out.append("</svg>")
+    return Svg("\n".join(out))
+
+
+#: Colours of the shallowest and the deepest level of :func:`map_chart`'s depth shading.
+MAP_DEPTH_COLORS = ("#f4f1e6", "#9dbccb")
+#: Depth shading steps of :func:`map_chart`.
+MAP_DEPTH_LEVELS = 8
+
+
+def _map_depth_color(f: float) -> str:
+    """Colour of a depth level, ``f`` in [0, 1] from shallow to deep."""
+    return _mix(MAP_DEPTH_COLORS[0], MAP_DEPTH_COLORS[1], f)
+
+
+def map_chart(
+    series: Sequence[Series],
+    *,
+    xlim: tuple[float, float],
+    ylim: tuple[float, float],
+    depth: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None,
+    title: str = "",
+    size: int = 420,
+    levels: int = MAP_DEPTH_LEVELS,
+) -> Svg:
+    """A map as SVG: east to the right, north up, equal scales, over an optional depth raster.
+
+    Parameters
+    ----------
+    series : sequence of Series
+        Lines in (east, north) [m], drawn in order, with a legend.
+    xlim, ylim : (float, float)
+        East and north limits [m]; give a square box for equal scales (the plot area is square).
+    depth : (north, east, depth), optional
+        From :func:`wavebench.ui.player.depth_grid`: sample coordinates [m] and depth [m] of shape (n_north, n_east),
+        drawn as cells shaded in ``levels`` steps (shallow pale, deep dark; NaN left blank),
+        with a colour key.
+    title : str
+    size : int
+        Side of the square plot area [px].
+    levels : int
+        Depth shading steps.
+
+    Returns
+    -------
+    Svg
+        Depth cells are ``<rect class="depth">`` (runs of equal level along a row merged) with the
+        level's range in ``data-lo`` and ``data-hi`` [m].
+    """
+    key = 26 if depth is not None else 0
+    ax = _Axes(
+        width=62 + size + 16,
+        height=(30 if title else 12) + key + size + 44,
+        top=(30 if title else 12) + key,
+        xlim=xlim,
+        ylim=ylim,
+    )
+    out = ax.open(title)
+    if depth is not None:
+        north, east, d = depth
+        lo, hi = float(np.nanmin(d)), float(np.nanmax(d))
+        span = hi - lo if hi > lo else 1.0
+        level = np.clip(np.floor((d - lo) / span * levels), 0, levels - 1)
+
+        # cell edges halfway between samples (the outer ones half a step out), clipped to the plot
+        def edges(c: np.ndarray) -> np.ndarray:
+            mid = 0.5 * (c[1:] + c[:-1])
+            return np.concatenate([[c[0] - (mid[0] - c[0])], mid, [c[-1] + (c[-1] - mid[-1])]])
+
+        en, ee = edges(north), edges(east)
+        X = np.clip(ax.px(ee), ax.left, ax.left + ax.pw)
+        Y = np.clip(ax.py(en), ax.top, ax.top + ax.ph)
+        for r in range(north.size):
+            c = 0
+            while c < east.size:
+                lv = level[r, c]
+                c2 = c + 1
+                while c2 < east.size and (level[r, c2] == lv or (np.isnan(lv) and np.isnan(level[r, c2]))):
+                    c2 += 1
+                if not np.isnan(lv):
+                    k = int(lv)
+                    out.append(
+                        f'<rect class="depth" x="{X[c]:.1f}" y="{Y[r + 1]:.1f}" width="{X[c2] - X[c]:.1f}" '
+                        f'height="{Y[r] - Y[r + 1] + 0.5:.1f}" fill="{_map_depth_color((k + 0.5) / levels)}" '
+                        f'shape-rendering="crispEdges" '
+                        f'data-lo="{lo + k * span / levels!r}" data-hi="{lo + (k + 1) * span / levels!r}"/>'
+                    )
+                c = c2
+        # colour key between the title and the plot
+        kx, ky = float(ax.left), ax.top - key + 4
+        out.append(f'<text x="{kx:.1f}" y="{ky + 10}">depth [m]</text>')
+        for k in range(levels):
+            out.append(
+                f'<rect x="{kx + 62 + 18 * k:.1f}" y="{ky}" width="18" height="11" '
+                f'fill="{_map_depth_color((k + 0.5) / levels)}" stroke="#ccc" stroke-width="0.5"/>'
+            )
+        out.append(f'<text x="{kx + 66 + 18 * levels:.1f}" y="{ky + 10}">{lo:.3g} (pale) to {hi:.3g} (dark)</text>')
+    ax.grid(out, "east [m]", "north [m]")
+    clip = _uid("map", title, xlim, ylim, *[np.asarray(s.x, dtype=float) for s in series])
+    out.append(f'<clipPath id="{clip}"><rect x="{ax.left}" y="{ax.top}" width="{ax.pw}" height="{ax.ph}"/></clipPath>')
+    legend = []
+    for k, s in enumerate(series):
+        color = s.color or PALETTE[k % len(PALETTE)]
+        dash = ' stroke-dasharray="5,3"' if s.dashed else ""
+        d = _polyline(ax.px, ax.py, np.asarray(s.x, dtype=float), np.asarray(s.y, dtype=float))
+        out.append(
+            f'<path class="line" d="{d}" fill="none" stroke="{color}" stroke-width="{s.width}" '
+            f'stroke-opacity="{s.opacity}"{dash} '
+            f'data-label="{html.escape(s.label)}" clip-path="url(#{clip})"/>'
+        )
+        if s.label:
+            legend.append((s.label, color, dash))
+    for k, (label, color, dash) in enumerate(legend):
+        Y = ax.top + 14 + 14 * k
+        X = ax.left + ax.pw - 150
+        out.append(
+            f'<rect x="{X - 4}" y="{Y - 11}" width="152" height="14" fill="#ffffff" fill-opacity="0.7"/>'
+            f'<line x1="{X}" y1="{Y - 4}" x2="{X + 20}" y2="{Y - 4}" stroke="{color}" stroke-width="2"{dash}/>'
+            f'<text x="{X + 25}" y="{Y}">{html.escape(label)}</text>'
+        )
     out.append("</svg>")
     return Svg("\n".join(out))

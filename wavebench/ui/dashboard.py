@@ -27,7 +27,6 @@ table and the same charts as SVG.
 
 from __future__ import annotations
 
-import html
 import math
 import os
 import threading
@@ -40,11 +39,11 @@ from numpy.typing import NDArray
 
 from ..core.errors import ParameterError
 from ..report.campaign import MAIN_METRICS, nan_percentiles
-from ..report.charts import _Axes, band_chart, histogram_chart, histogram_counts, signed_bar_chart
+from ..report.charts import band_chart, histogram_chart, histogram_counts, scatter_chart, signed_bar_chart
 from ..report.html import cell_number, escape
 from ..report.navigation import NAV_METRICS
 from ..report.study import DIRECTION_COLUMN, HS_COLUMN, MIN_CELL_TRIALS, Requirement, meets
-from ..report.svg import PALETTE, Series, Svg, line_chart
+from ..report.svg import PALETTE, Series, line_chart
 from .twin import Twinned
 
 __all__ = ["BAND_PERCENTILES", "MAX_SAMPLE_TRIALS", "Band", "CampaignDashboard", "ecdf", "scatter_chart"]
@@ -97,73 +96,6 @@ def _steps(x: FloatArray, f: FloatArray) -> tuple[FloatArray, FloatArray]:
     xs = np.repeat(x, 2)
     fs = np.concatenate([[0.0], np.repeat(f, 2)[:-1]])
     return xs, fs
-
-
-def scatter_chart(x: Any, y: Any, groups: Sequence[tuple[Any, str, str]], *, title: str = "", xlabel: str = "",
-                  ylabel: str = "", hline: float | None = None, hline_label: str = "", width: int = 540,
-                  height: int = 320) -> Svg:  # fmt: skip
-    """Render points as SVG, one colour per group.
-
-    Parameters
-    ----------
-    x, y : array_like of shape (n,)
-        Coordinates; points with a NaN are not drawn.
-    groups : sequence of (mask, label, colour)
-        ``mask`` (bool, shape (n,)) picks the group's points.
-    title, xlabel, ylabel : str
-    hline : float, optional
-        A dashed horizontal line (e.g. a requirement's threshold).
-    hline_label : str
-    width, height : int
-        Size [px].
-
-    Returns
-    -------
-    Svg
-        Each point is ``<circle class="point">`` with its group in ``data-group``.
-
-    Examples
-    --------
-    >>> svg = scatter_chart([0, 1, 2], [1, 2, 3], [([True, False, True], "met", "#2e7d32"),
-    ...                                             ([False, True, False], "not met", "#b3261e")])
-    >>> svg.count('class="point"'), svg.count('data-group="met"')
-    (3, 2)
-    """
-    xv, yv = np.asarray(x, dtype=float), np.asarray(y, dtype=float)
-    ok = np.isfinite(xv) & np.isfinite(yv)
-
-    def span(a: FloatArray, extra: Sequence[float] = ()) -> tuple[float, float]:
-        vals = np.concatenate([a[ok], np.asarray(extra, dtype=float)])
-        if vals.size == 0:
-            return 0.0, 1.0
-        lo, hi = float(vals.min()), float(vals.max())
-        if hi == lo:
-            lo, hi = lo - 0.5, hi + 0.5
-        pad = 0.05 * (hi - lo)
-        return lo - pad, hi + pad
-
-    ax = _Axes(width=width, height=height, top=48 if title else 30, xlim=span(xv),
-               ylim=span(yv, [hline] if hline is not None and math.isfinite(hline) else []))  # fmt: skip
-    out = ax.open(title, f"n = {int(ok.sum())}")
-    ax.grid(out, xlabel, ylabel)
-    if hline is not None and math.isfinite(hline):
-        Y = float(ax.py(hline))
-        out.append(f'<line class="threshold" x1="{ax.left}" y1="{Y:.2f}" x2="{ax.left + ax.pw}" y2="{Y:.2f}" '
-                   f'stroke="{_FAIL}" stroke-dasharray="6,3" stroke-width="1.4"/>')  # fmt: skip
-        if hline_label:
-            out.append(f'<text x="{ax.left + ax.pw - 4}" y="{Y - 4:.1f}" text-anchor="end" fill="{_FAIL}">'
-                       f"{html.escape(hline_label)}</text>")  # fmt: skip
-    X = float(ax.left)
-    for mask, label, color in groups:
-        m = np.asarray(mask, dtype=bool) & ok
-        for a, b in zip(ax.px(xv[m]), ax.py(yv[m]), strict=True):
-            out.append(f'<circle class="point" cx="{a:.1f}" cy="{b:.1f}" r="3" fill="{color}" fill-opacity="0.75" '
-                       f'data-group="{html.escape(label)}"/>')  # fmt: skip
-        out.append(f'<circle cx="{X + 5:.1f}" cy="{ax.top - 10}" r="4" fill="{color}"/>'
-                   f'<text x="{X + 13:.1f}" y="{ax.top - 6}">{html.escape(label)} ({int(m.sum())})</text>')  # fmt: skip
-        X += 30 + 6.6 * len(label) + 20
-    out.append("</svg>")
-    return Svg("\n".join(out))
 
 
 class Band:

@@ -40,8 +40,9 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ..core.errors import ParameterError
+from ..report.charts import MAP_DEPTH_COLORS, map_chart
 from ..report.html import cell_number, escape
-from ..report.svg import PALETTE, Series, Svg, line_chart
+from ..report.svg import PALETTE, Series, line_chart
 from .twin import Twinned
 
 __all__ = [
@@ -62,16 +63,15 @@ FOLLOW_LENGTHS = 12.0
 
 #: Cells per side of the depth raster drawn under the live map.
 DEPTH_CELLS = 80
-#: Cells per side of the depth raster of the static map, and its shading steps.
+#: Cells per side of the depth raster of the static map (shaded in
+#: :data:`~wavebench.report.charts.MAP_DEPTH_LEVELS` steps).
 STATIC_DEPTH_CELLS = 60
-DEPTH_LEVELS = 8
 
 _ROUTE_COLOR = "#7a7a7a"
 _TRUE_COLOR = PALETTE[0]
 _NAV_COLOR = PALETTE[1]
 _CRAFT_COLOR = "#222222"
 _CURSOR_COLOR = "#b3261e"
-_DEPTH_COLORS = ("#f4f1e6", "#9dbccb")  # shallow, deep
 _BAND_COLOR = "#8fb7c9"
 
 
@@ -220,106 +220,6 @@ def _square_box(easts: Sequence[FloatArray], norths: Sequence[FloatArray], pad: 
     ce, cn = 0.5 * (e.min() + e.max()), 0.5 * (n.min() + n.max())
     half = 0.5 * max(e.max() - e.min(), n.max() - n.min(), 10.0) * (1.0 + 2.0 * pad)
     return (float(ce - half), float(ce + half)), (float(cn - half), float(cn + half))
-
-
-def _depth_color(f: float) -> str:
-    """Colour of a depth level, ``f`` in [0, 1] from shallow to deep."""
-    a = [int(_DEPTH_COLORS[0][k : k + 2], 16) for k in (1, 3, 5)]
-    b = [int(_DEPTH_COLORS[1][k : k + 2], 16) for k in (1, 3, 5)]
-    return "#" + "".join(f"{round(x + (y - x) * f):02x}" for x, y in zip(a, b, strict=True))
-
-
-def map_chart(series: Sequence[Series], *, xlim: tuple[float, float], ylim: tuple[float, float],
-              depth: tuple[FloatArray, FloatArray, FloatArray] | None = None, title: str = "",
-              size: int = 420, levels: int = DEPTH_LEVELS) -> Svg:  # fmt: skip
-    """A map as SVG: east to the right, north up, equal scales, over an optional depth raster.
-
-    Parameters
-    ----------
-    series : sequence of Series
-        Lines in (east, north) [m], drawn in order, with a legend.
-    xlim, ylim : (float, float)
-        East and north limits [m]; give a square box for equal scales (the plot area is square).
-    depth : (north, east, depth), optional
-        From :func:`depth_grid`: sample coordinates [m] and depth [m] of shape (n_north, n_east),
-        drawn as cells shaded in ``levels`` steps (shallow pale, deep dark; NaN left blank),
-        with a colour key.
-    title : str
-    size : int
-        Side of the square plot area [px].
-    levels : int
-        Depth shading steps.
-
-    Returns
-    -------
-    Svg
-        Depth cells are ``<rect class="depth">`` (runs of equal level along a row merged) with the
-        level's range in ``data-lo`` and ``data-hi`` [m].
-    """
-    from ..report.charts import _Axes, _polyline, _uid
-
-    key = 26 if depth is not None else 0
-    ax = _Axes(width=62 + size + 16, height=(30 if title else 12) + key + size + 44, top=(30 if title else 12) + key,
-               xlim=xlim, ylim=ylim)  # fmt: skip
-    out = ax.open(title)
-    if depth is not None:
-        north, east, d = depth
-        lo, hi = float(np.nanmin(d)), float(np.nanmax(d))
-        span = hi - lo if hi > lo else 1.0
-        level = np.clip(np.floor((d - lo) / span * levels), 0, levels - 1)
-
-        # cell edges halfway between samples (the outer ones half a step out), clipped to the plot
-        def edges(c: FloatArray) -> FloatArray:
-            mid = 0.5 * (c[1:] + c[:-1])
-            return np.concatenate([[c[0] - (mid[0] - c[0])], mid, [c[-1] + (c[-1] - mid[-1])]])
-
-        en, ee = edges(north), edges(east)
-        X = np.clip(ax.px(ee), ax.left, ax.left + ax.pw)
-        Y = np.clip(ax.py(en), ax.top, ax.top + ax.ph)
-        for r in range(north.size):
-            c = 0
-            while c < east.size:
-                lv = level[r, c]
-                c2 = c + 1
-                while c2 < east.size and (level[r, c2] == lv or (np.isnan(lv) and np.isnan(level[r, c2]))):
-                    c2 += 1
-                if not np.isnan(lv):
-                    k = int(lv)
-                    out.append(
-                        f'<rect class="depth" x="{X[c]:.1f}" y="{Y[r + 1]:.1f}" width="{X[c2] - X[c]:.1f}" '
-                        f'height="{Y[r] - Y[r + 1] + 0.5:.1f}" fill="{_depth_color((k + 0.5) / levels)}" '
-                        f'shape-rendering="crispEdges" '
-                        f'data-lo="{lo + k * span / levels!r}" data-hi="{lo + (k + 1) * span / levels!r}"/>'
-                    )
-                c = c2
-        # colour key between the title and the plot
-        kx, ky = float(ax.left), ax.top - key + 4
-        out.append(f'<text x="{kx:.1f}" y="{ky + 10}">depth [m]</text>')
-        for k in range(levels):
-            out.append(f'<rect x="{kx + 62 + 18 * k:.1f}" y="{ky}" width="18" height="11" '
-                       f'fill="{_depth_color((k + 0.5) / levels)}" stroke="#ccc" stroke-width="0.5"/>')  # fmt: skip
-        out.append(f'<text x="{kx + 66 + 18 * levels:.1f}" y="{ky + 10}">{lo:.3g} (pale) to {hi:.3g} (dark)</text>')
-    ax.grid(out, "east [m]", "north [m]")
-    clip = _uid("map", title, xlim, ylim, *[np.asarray(s.x, dtype=float) for s in series])
-    out.append(f'<clipPath id="{clip}"><rect x="{ax.left}" y="{ax.top}" width="{ax.pw}" height="{ax.ph}"/></clipPath>')
-    legend = []
-    for k, s in enumerate(series):
-        color = s.color or PALETTE[k % len(PALETTE)]
-        dash = ' stroke-dasharray="5,3"' if s.dashed else ""
-        d = _polyline(ax.px, ax.py, np.asarray(s.x, dtype=float), np.asarray(s.y, dtype=float))
-        out.append(f'<path class="line" d="{d}" fill="none" stroke="{color}" stroke-width="{s.width}" '
-                   f'stroke-opacity="{s.opacity}"{dash} '
-                   f'data-label="{escape(s.label)}" clip-path="url(#{clip})"/>')  # fmt: skip
-        if s.label:
-            legend.append((s.label, color, dash))
-    for k, (label, color, dash) in enumerate(legend):
-        Y = ax.top + 14 + 14 * k
-        X = ax.left + ax.pw - 150
-        out.append(f'<rect x="{X - 4}" y="{Y - 11}" width="152" height="14" fill="#ffffff" fill-opacity="0.7"/>'
-                   f'<line x1="{X}" y1="{Y - 4}" x2="{X + 20}" y2="{Y - 4}" stroke="{color}" stroke-width="2"{dash}/>'
-                   f'<text x="{X + 25}" y="{Y}">{escape(label)}</text>')  # fmt: skip
-    out.append("</svg>")
-    return Svg("\n".join(out))
 
 
 class TrialPlayer(Twinned):
@@ -474,7 +374,7 @@ class TrialPlayer(Twinned):
             north, east, depth = depth_grid(self.seabed, (n0, n1), (e0, e1))
             if _finite(depth):
                 lo, hi = float(np.nanmin(depth)), float(np.nanmax(depth))
-                cs = bq.ColorScale(colors=list(_DEPTH_COLORS), min=lo, max=hi if hi > lo else lo + 1.0)
+                cs = bq.ColorScale(colors=list(MAP_DEPTH_COLORS), min=lo, max=hi if hi > lo else lo + 1.0)
                 self.marks["depth"] = bq.HeatMap(x=east, y=north, color=depth, scales={"x": xs, "y": ys, "color": cs},
                                                  null_color="#ffffff")  # fmt: skip
                 marks.append(self.marks["depth"])
