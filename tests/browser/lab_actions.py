@@ -1,0 +1,38 @@
+"""What a person does in JupyterLab, as Playwright steps shared by the browser tests.
+
+Waits are Playwright's auto-retrying ``expect`` with explicit timeouts, never fixed
+sleeps. See ``../shared/jupyter-testing.md`` for the kernel race these steps avoid.
+"""
+
+from __future__ import annotations
+
+import re
+
+from playwright.sync_api import expect
+
+LONG = 60_000  # ms: kernel start and first widget render on a 2-core machine
+QUEUED = re.compile(r"\[(\*|\d+)\]")  # an input prompt once the cell is queued ([*]) or has run ([n])
+DONE = re.compile(r"^\s*\[\d+\]:?\s*$")  # an input prompt once the cell has run
+
+
+def wait_kernel_idle(page, timeout_ms: float = LONG) -> None:
+    """Wait until the status bar shows the kernel's display name and Idle.
+
+    The notebook says idle before its kernel session exists; the status bar shows the
+    kernel's display name and "Idle" only once the kernel is really there.
+    """
+    expect(page.locator("#jp-main-statusbar")).to_contain_text("(ipykernel) | Idle", timeout=timeout_ms)
+
+
+def run_all_cells(page) -> None:
+    """Run every cell from the Run menu, retrying while the kernel silently drops the request."""
+    first = page.locator(".jp-NotebookPanel:visible .jp-CodeCell").first.locator(".jp-InputPrompt")
+    for _attempt in range(4):
+        page.locator(".lm-MenuBar-item", has_text=re.compile(r"^Run$")).click()
+        page.locator(".lm-Menu-item:visible", has_text=re.compile(r"^Run All Cells")).first.click()
+        try:
+            expect(first).to_have_text(QUEUED, timeout=10_000)
+            return
+        except AssertionError:
+            wait_kernel_idle(page)
+    raise AssertionError(f"the cells never queued: the first prompt reads {first.inner_text()!r}")
