@@ -21,15 +21,11 @@ from __future__ import annotations
 import json
 import os
 import shutil
-import socket
-import subprocess
-import sys
 import time
-import urllib.error
-import urllib.request
 from pathlib import Path
 
 import pytest
+from jupyter_test_server import api_request, isolated_env, running_server
 
 pytest.importorskip("jupyter_server")
 pq = pytest.importorskip("pyarrow.parquet")
@@ -39,12 +35,6 @@ CONFIG_FILE = REPO / "jupyter-config" / "jupyter_server_config.d" / "wavebench.j
 TOKEN = "wavebench-test-token-4f1c"
 SENTINEL = "SENTINEL-outside-the-root-7d2e9a"
 OLD = time.time() - 3600.0  # an hour ago: well past the 120 s "running" window
-
-
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return int(s.getsockname()[1])
 
 
 def _make_stores(root: Path, outside: Path) -> None:
@@ -119,15 +109,7 @@ class Server:
         self.base, self.log, self.root, self.outside = base, log, root, outside
 
     def get(self, path: str, *, token: str | None = TOKEN) -> tuple[int, str]:
-        req = urllib.request.Request(self.base + path)
-        if token is not None:
-            req.add_header("Authorization", f"token {token}")
-        try:
-            with urllib.request.urlopen(req, timeout=20) as resp:
-                return resp.status, resp.read().decode("utf-8")
-        except urllib.error.HTTPError as err:
-            with err:
-                return err.code, err.read().decode("utf-8", "replace")
+        return api_request(self.base + path, token=token)
 
     def get_json(self, path: str) -> object:
         status, body = self.get(path)
@@ -141,49 +123,13 @@ def server(tmp_path_factory: pytest.TempPathFactory):
     root, outside = tmp / "root", tmp / "outside"
     root.mkdir()
     _make_stores(root, outside)
-    env = dict(os.environ)
-    for var in ("JUPYTER_CONFIG_DIR", "JUPYTER_DATA_DIR", "JUPYTER_RUNTIME_DIR", "IPYTHONDIR",
-                "JUPYTERLAB_SETTINGS_DIR", "JUPYTERLAB_WORKSPACES_DIR"):  # fmt: skip
-        (tmp / var.lower()).mkdir()
-        env[var] = str(tmp / var.lower())
+    env = isolated_env(tmp)
     # enabled the way the installed package enables it: the config file in a config folder
     (tmp / "jupyter_config_dir" / "jupyter_server_config.d").mkdir()
     shutil.copy(CONFIG_FILE, tmp / "jupyter_config_dir" / "jupyter_server_config.d" / "wavebench.json")
-    env.pop("JUPYTER_TOKEN", None)
-    port = _free_port()
-    cmd = [sys.executable, "-m", "jupyter_server", "--no-browser", "--ip=127.0.0.1", f"--port={port}",
-           "--ServerApp.port_retries=0", f"--IdentityProvider.token={TOKEN}", f"--ServerApp.root_dir={root}",
-           "--ServerApp.base_url=/wb/"]  # fmt: skip
-    if hasattr(os, "geteuid") and os.geteuid() == 0:
-        cmd.append("--allow-root")
-    log = tmp / "server.log"
-    fh = open(log, "wb")  # closed in the teardown below
-    proc: subprocess.Popen[bytes] | None = None
-    try:
-        proc = subprocess.Popen(cmd, stdout=fh, stderr=subprocess.STDOUT, env=env, cwd=tmp)
-        srv = Server(f"http://127.0.0.1:{port}/wb/", log, root, outside)
-        deadline = time.monotonic() + 30.0
-        while True:
-            if proc.poll() is not None:
-                raise RuntimeError(f"jupyter server exited with {proc.returncode}:\n{log.read_text()}")
-            try:
-                if srv.get("api/status")[0] == 200:
-                    break
-            except OSError:
-                pass
-            if time.monotonic() > deadline:
-                raise RuntimeError(f"jupyter server did not answer within 30 s:\n{log.read_text()}")
-            time.sleep(0.2)
-        yield srv
-    finally:
-        if proc is not None:
-            proc.terminate()
-            try:
-                proc.wait(timeout=10)
-            except subprocess.TimeoutExpired:
-                proc.kill()
-                proc.wait(timeout=10)
-        fh.close()
+    with running_server("jupyter_server", tmp=tmp, env=env, root=root, token=TOKEN, base_url="/wb/",
+                        start_timeout_s=30.0) as running:  # fmt: skip
+        yield Server(running.base, running.log, root, outside)
 
 
 @pytest.fixture

@@ -4,7 +4,8 @@ The server is ``python -m jupyterlab`` in a subprocess on 127.0.0.1, a free port
 token, with its configuration, runtime, IPython, settings and workspace folders in a
 temporary folder; the lab extensions and kernels still come from the environment's
 ``sys.prefix/share/jupyter`` (always on Jupyter's data path), and the wavebench server
-extension is switched on explicitly on the command line.
+extension is switched on in the test's own config folder. Starting, waiting and stopping
+are ``tests/jupyter_test_server.py``'s, shared with ``tests/test_labext_routes.py``.
 
 On a failed test the page is saved as a screenshot and the server log is copied, both
 under ``tests/browser/artifacts/<test name>/``; their paths are printed in the report.
@@ -16,16 +17,18 @@ import json
 import os
 import re
 import shutil
-import socket
-import subprocess
 import sys
-import time
-import urllib.error
-import urllib.request
 from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
+
+# the server helpers in tests/ are shared with tests/test_labext_routes.py; pytest's default "prepend" import mode
+# puts tests/ on sys.path only when it imports a module from there, not when only tests/browser runs
+_TESTS_DIR = str(Path(__file__).resolve().parents[1])
+if _TESTS_DIR not in sys.path:
+    sys.path.insert(0, _TESTS_DIR)
+from jupyter_test_server import JupyterServer, isolated_env, running_server  # noqa: E402
 
 CHROMIUM = Path(os.environ.get("WAVEBENCH_CHROMIUM", "/usr/bin/chromium"))  # the variable: for a check of the message
 CHROMIUM_ARGS = [
@@ -37,17 +40,12 @@ ARTIFACTS = Path(__file__).resolve().parent / "artifacts"
 START_TIMEOUT_S = 60.0
 
 
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return int(s.getsockname()[1])
-
-
 class Lab:
     """A running JupyterLab: base URL, server root folder, log file and the environment it runs in."""
 
-    def __init__(self, base: str, root: Path, log: Path, env: dict[str, str]) -> None:
-        self.base, self.root, self.log, self.env = base, root, log, env
+    def __init__(self, server: JupyterServer, root: Path) -> None:
+        self.server, self.root = server, root
+        self.base, self.log, self.env = server.base, server.log, server.env
 
     def url(self, path: str = "lab") -> str:
         sep = "&" if "?" in path else "?"
@@ -60,14 +58,7 @@ class Lab:
         page.locator("#jp-main-dock-panel .lm-DockPanel-widget").first.wait_for(state="visible", timeout=60_000)
 
     def api(self, path: str, method: str = "GET") -> tuple[int, str]:
-        req = urllib.request.Request(self.base + path, method=method)
-        req.add_header("Authorization", f"token {TOKEN}")
-        try:
-            with urllib.request.urlopen(req, timeout=20) as resp:
-                return resp.status, resp.read().decode("utf-8")
-        except urllib.error.HTTPError as err:
-            with err:
-                return err.code, err.read().decode("utf-8", "replace")
+        return self.server.request(path, method=method)
 
 
 @pytest.fixture(scope="session")
@@ -75,12 +66,7 @@ def lab(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Lab]:
     tmp = tmp_path_factory.mktemp("lab")
     root = tmp / "root"
     root.mkdir()
-    env = dict(os.environ)
-    for var in ("JUPYTER_CONFIG_DIR", "JUPYTER_DATA_DIR", "JUPYTER_RUNTIME_DIR", "IPYTHONDIR",
-                "JUPYTERLAB_SETTINGS_DIR", "JUPYTERLAB_WORKSPACES_DIR"):  # fmt: skip
-        (tmp / var.lower()).mkdir()
-        env[var] = str(tmp / var.lower())
-    env.pop("JUPYTER_TOKEN", None)
+    env = isolated_env(tmp)
     settings = tmp / "jupyterlab_settings_dir"
     # no news / update toasts over the page (JupyterLab's notification settings)
     notif = settings / "@jupyterlab" / "apputils-extension"
@@ -91,52 +77,11 @@ def lab(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Lab]:
     # jupyter_server_config.d file of the environment, which Jupyter reads from sys.prefix/etc/jupyter)
     (tmp / "jupyter_config_dir" / "jupyter_server_config.json").write_text(
         json.dumps({"ServerApp": {"jpserver_extensions": {"wavebench.labext": True}}}), encoding="utf-8")
-    port = _free_port()
-    cmd = [
-        sys.executable, "-m", "jupyterlab", "--no-browser", "--ip=127.0.0.1", f"--port={port}",
-        "--ServerApp.port_retries=0", f"--IdentityProvider.token={TOKEN}", f"--ServerApp.root_dir={root}",
-        f"--LabApp.user_settings_dir={settings}", f"--LabApp.workspaces_dir={tmp / 'jupyterlab_workspaces_dir'}",
-        "--LabApp.news_url=None",
-    ]  # fmt: skip
-    if hasattr(os, "geteuid") and os.geteuid() == 0:
-        cmd.append("--allow-root")
-    log = tmp / "server.log"
-    fh = open(log, "wb")  # closed in the teardown below
-    proc: subprocess.Popen[bytes] | None = None
-    try:
-        proc = subprocess.Popen(cmd, stdout=fh, stderr=subprocess.STDOUT, env=env, cwd=tmp)
-        srv = Lab(f"http://127.0.0.1:{port}/", root, log, env)
-        deadline = time.monotonic() + START_TIMEOUT_S
-        while True:
-            if proc.poll() is not None:
-                pytest.fail(f"JupyterLab exited with {proc.returncode}; log {log}:\n{log.read_text(errors='replace')}")
-            try:
-                if srv.api("api/status")[0] == 200:
-                    break
-            except OSError:
-                pass
-            if time.monotonic() > deadline:
-                pytest.fail(f"JupyterLab did not answer /api/status within {START_TIMEOUT_S:.0f} s; log {log}:\n"
-                            f"{log.read_text(errors='replace')}")  # fmt: skip
-            time.sleep(0.25)
-        yield srv
-    finally:
-        if proc is not None:
-            # shut the kernels down through the API first so no kernel process outlives the server
-            try:
-                status, body = srv.api("api/kernels")
-                if status == 200:
-                    for k in json.loads(body):
-                        srv.api(f"api/kernels/{k['id']}", method="DELETE")
-            except (OSError, ValueError, NameError):
-                pass
-            proc.terminate()
-            try:
-                proc.wait(timeout=15)
-            except subprocess.TimeoutExpired:
-                proc.kill()
-                proc.wait(timeout=10)
-        fh.close()
+    args = [f"--LabApp.user_settings_dir={settings}", f"--LabApp.workspaces_dir={tmp / 'jupyterlab_workspaces_dir'}",
+            "--LabApp.news_url=None"]  # fmt: skip
+    with running_server("jupyterlab", tmp=tmp, env=env, root=root, token=TOKEN, args=args,
+                        start_timeout_s=START_TIMEOUT_S) as server:  # fmt: skip
+        yield Lab(server, root)
 
 
 @pytest.fixture(scope="session")
