@@ -6,7 +6,9 @@
  * - a left side panel "Campaigns" listing campaign stores from the server
  *   route GET /wavebench/stores;
  * - palette commands (category "wavebench") for each template and for
- *   refreshing the campaign list.
+ *   refreshing the campaign list;
+ * - in notebooks, a wavebench panel's static twin where its live widget
+ *   cannot be drawn (./twinfallback.ts).
  */
 
 import {
@@ -18,11 +20,18 @@ import { ICommandPalette } from '@jupyterlab/apputils';
 import { IDocumentManager } from '@jupyterlab/docmanager';
 import { IDefaultFileBrowser } from '@jupyterlab/filebrowser';
 import { ILauncher } from '@jupyterlab/launcher';
+import {
+  INotebookTracker,
+  INotebookWidgetFactory,
+  NotebookPanel,
+  NotebookWidgetFactory
+} from '@jupyterlab/notebook';
 
 import { CampaignsPanel } from './campaigns';
 import { campaignsIcon, wavebenchIcon } from './icons';
 import { SPEC_FACTORY, SpecSummaryFactory } from './specviewer';
 import { ITemplate, specTemplate, TEMPLATES, templateNotebook } from './templates';
+import { installTwinFallback } from './twinfallback';
 
 const CATEGORY = 'wavebench';
 
@@ -168,4 +177,30 @@ const specViewerPlugin: JupyterFrontEndPlugin<void> = {
   }
 };
 
-export default [templatesPlugin, campaignsPlugin, specViewerPlugin];
+/**
+ * The static-twin fallback for wavebench panels, in every notebook.
+ *
+ * A notebook's registry is handled as soon as the notebook widget is made
+ * (the notebook widget factory's `widgetCreated`, before the file's cells
+ * are rendered); notebooks the tracker knows (already open, or made by
+ * another factory) are handled when they are added to it. Outputs a notebook
+ * rendered before that keep the plain ipywidgets renderer.
+ */
+const twinFallbackPlugin: JupyterFrontEndPlugin<void> = {
+  id: '@wavebench/labextension:twin-fallback',
+  description: 'Shows the static twin of a wavebench panel where its live widget cannot be drawn.',
+  autoStart: true,
+  optional: [INotebookWidgetFactory, INotebookTracker],
+  activate: (
+    app: JupyterFrontEnd,
+    factory: NotebookWidgetFactory.IFactory | null,
+    tracker: INotebookTracker | null
+  ): void => {
+    const install = (panel: NotebookPanel): void => installTwinFallback(panel.content.rendermime);
+    factory?.widgetCreated.connect((_sender, panel) => install(panel));
+    tracker?.forEach(install);
+    tracker?.widgetAdded.connect((_sender, panel) => install(panel));
+  }
+};
+
+export default [templatesPlugin, campaignsPlugin, specViewerPlugin, twinFallbackPlugin];
