@@ -13,9 +13,11 @@ from __future__ import annotations
 
 import json
 import sys
+import xml.etree.ElementTree as ET
 from pathlib import Path
 
 import pytest
+from twin_images import twin_svgs
 
 from wavebench.analysis.verdicts import VERDICTS
 from wavebench.notebook_verify import collect_results
@@ -94,5 +96,10 @@ def test_saved_notebook_converted_to_html_shows_every_panels_static_twin(path: P
         assert TWIN_CLASS in o["data"].get("text/html", ""), f"{path.name}: a panel output without a static twin"
     body, _ = HTMLExporter().from_notebook_node(nb)
     assert body.count(f'class="{TWIN_CLASS}"') == len(panels)
+    for o in panels:  # each twin's charts are <img> data URIs (kept by JupyterLab's sanitiser when untrusted)
+        twin = o["data"]["text/html"]
+        assert "<svg" not in twin, f"{path.name}: a twin with inline SVG (saved before twins used images?)"
+        for svg in twin_svgs(twin):
+            assert ET.fromstring(svg).tag == "{http://www.w3.org/2000/svg}svg"  # W3C XML 1.0 well-formed SVG root
     if panels:
-        assert "<svg" in body
+        assert twin_svgs(body), f"{path.name}: no chart image in the HTML conversion"
