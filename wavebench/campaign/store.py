@@ -23,6 +23,11 @@ Layout of a store folder ``DIR``:
     A list of verdicts (:meth:`~wavebench.analysis.verdicts.Verdict.to_dict`).
 ``report.html``
     Written by ``wavebench report DIR``.
+
+While a campaign is still running into ``DIR`` (or was interrupted), the
+folder holds ``spec.toml``, ``chunks/`` and the growing ``timeseries.zarr``
+instead (:mod:`wavebench.campaign.chunks`); ``read_store(DIR, partial=True)``
+reads the trials finished so far.
 """
 
 from __future__ import annotations
@@ -33,14 +38,18 @@ import os
 import platform
 import shutil
 import sys
+import warnings
 from importlib import metadata
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+
 from ..analysis.verdicts import Verdict
-from ..core.errors import ParameterError
+from ..core.errors import ParameterError, WavebenchWarning
 from ..spec.io import dump_spec, load_spec, spec_hash
-from .executor import CampaignResult
+from .chunks import CHUNKS_DIR
+from .executor import CampaignResult, evaluate_verdicts
 from .series import LEGACY_NAME, SERIES_NAME, open_timeseries, write_series
 
 __all__ = ["STORE_FORMAT", "STORE_FORMAT_VERSION", "export_netcdf", "package_versions", "read_store", "write_store"]
@@ -120,26 +129,54 @@ def write_store(result: CampaignResult, out_dir: str | os.PathLike[str], *, time
     return out
 
 
-def read_store(store_dir: str | os.PathLike[str]) -> dict[str, Any]:
+def read_store(store_dir: str | os.PathLike[str], *, partial: bool = False) -> dict[str, Any]:
     """Read a store folder back.
+
+    Parameters
+    ----------
+    store_dir : path-like
+        A store folder written by ``wavebench run`` (or ``run_campaign(..., store=...)``).
+    partial : bool
+        Also read an unfinished store (a campaign still running into the
+        folder, or interrupted): the trials of its finished chunks so far.
+        Without it, only a finished store is read.
 
     Returns
     -------
     dict
-        ``spec`` (Spec), ``manifest`` (dict), ``metrics`` (DataFrame),
-        ``timeseries`` (Dataset opened lazily, or None), ``verdicts`` (list of Verdict).
+        ``spec`` (Spec), ``manifest`` (dict), ``metrics`` (DataFrame, sorted
+        by trial), ``timeseries`` (Dataset opened lazily, or None),
+        ``verdicts`` (list of Verdict) and ``partial`` (bool). For an
+        unfinished store the manifest is built from ``chunks/plan.json``:
+        ``state = "partial"``, ``complete = False``, ``trials_done``,
+        ``trials_planned``; the time series hold the finished trials only
+        and the verdicts are computed on them
+        (:func:`~wavebench.campaign.executor.evaluate_verdicts`).
 
     Raises
     ------
     ParameterError
-        When the folder is not a wavebench store.
+        When the folder is not a wavebench store (or, without ``partial``,
+        is an unfinished one).
     """
     import pandas as pd
 
     d = Path(store_dir)
     man_path = d / "manifest.json"
+    plan_path = d / CHUNKS_DIR / "plan.json"
+    if not man_path.is_file() and plan_path.is_file():
+        if not partial:
+            raise ParameterError("store", str(d), "must be a finished store; it holds an unfinished campaign "
+                                 "(chunks/plan.json, no manifest.json): finish it with 'wavebench run --resume', "
+                                 "or read the trials finished so far with read_store(..., partial=True)")  # fmt: skip
+        try:
+            return _read_unfinished(d)
+        except FileNotFoundError:
+            if not man_path.is_file():  # not a campaign that finished while it was read
+                raise
     if not man_path.is_file():
-        raise ParameterError("store", str(d), "must be a folder written by 'wavebench run' (no manifest.json)")
+        found = "neither manifest.json nor chunks/plan.json" if partial else "no manifest.json"
+        raise ParameterError("store", str(d), f"must be a folder written by 'wavebench run' ({found})")
     manifest = json.loads(man_path.read_text(encoding="utf-8"))
     if manifest.get("format") != STORE_FORMAT:
         raise ParameterError("store", str(d), f"manifest.json must have format '{STORE_FORMAT}'")
@@ -151,7 +188,68 @@ def read_store(store_dir: str | os.PathLike[str]) -> dict[str, Any]:
         "metrics": pd.read_parquet(d / "metrics.parquet"),
         "timeseries": ts,
         "verdicts": verdicts,
+        "partial": False,
     }
+
+
+def _read_unfinished(d: Path) -> dict[str, Any]:
+    """The finished chunks of a campaign still running into ``d`` (or interrupted); see :func:`read_store`.
+
+    Read only: nothing in the folder is changed (a resume is what repairs
+    or reruns chunks). A chunk's metrics file is its commit marker
+    (:mod:`wavebench.campaign.chunks`), written after its time series, so
+    every trial read here has its rows of the time series on disk.
+    """
+    import pandas as pd
+
+    from ..analysis.metric_names import METRICS
+
+    plan = json.loads((d / CHUNKS_DIR / "plan.json").read_text(encoding="utf-8"))
+    spec_path = d / "spec.toml"
+    if not spec_path.is_file():
+        raise ParameterError("store", str(d), "must hold spec.toml beside chunks/plan.json (written when the "
+                             "campaign was planned)")  # fmt: skip
+    spec = load_spec(spec_path)
+    if spec_hash(spec) != plan.get("spec_hash"):
+        raise ParameterError("store", str(d), f"spec.toml must be the planned spec (spec hash {spec_hash(spec)}, "
+                             f"chunks/plan.json says {plan.get('spec_hash')})")  # fmt: skip
+    frames = []
+    for path in sorted((d / CHUNKS_DIR).glob("metrics-*.parquet")):
+        try:
+            frames.append(pd.read_parquet(path))
+        except FileNotFoundError:
+            raise
+        except (OSError, ValueError) as exc:  # cut short or damaged: a resume runs it again
+            warnings.warn(f"chunk {path.name} of {d} cannot be read ({type(exc).__name__}: {exc}); its trials are "
+                          "left out", WavebenchWarning, stacklevel=3)  # fmt: skip
+    if frames:
+        metrics = pd.concat(frames, ignore_index=True).sort_values("trial", kind="stable", ignore_index=True)
+    else:
+        metrics = pd.DataFrame({"trial": pd.Series([], dtype="int64")})
+    for name, info in METRICS.items():  # as run_campaign builds its table
+        if info.kind == "text" and name in metrics:
+            metrics[name] = metrics[name].astype(str)
+    trials = metrics["trial"].to_numpy(dtype=np.int64)
+    ts = open_timeseries(d) if plan.get("record") else None
+    if ts is not None:
+        ts = ts.sel(trial=trials)  # lazily; rows of chunks not finished are not shown
+    verdicts = evaluate_verdicts(spec, metrics) if len(metrics) else []
+    manifest = {
+        "format": STORE_FORMAT,
+        "format_version": STORE_FORMAT_VERSION,
+        "state": "partial",
+        "complete": False,
+        "spec_hash": plan.get("spec_hash"),
+        "seed": plan.get("seed"),
+        "trials": len(metrics),
+        "trials_done": len(metrics),
+        "trials_planned": int(plan["trials"]),
+        "batch_size": plan.get("batch_size"),
+        "scenario": spec.scenario.name,
+        "craft": spec.craft.build().name,
+    }
+    return {"spec": spec, "manifest": manifest, "metrics": metrics, "timeseries": ts, "verdicts": verdicts,
+            "partial": True}  # fmt: skip
 
 
 def export_netcdf(store_dir: str | os.PathLike[str], out_path: str | os.PathLike[str]) -> Path:

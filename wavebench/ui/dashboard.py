@@ -1,8 +1,10 @@
 """The campaign dashboard: verdicts, distributions, bands over time, inputs and drivers of a campaign.
 
 :class:`CampaignDashboard` shows a finished campaign (a store folder or a
-:class:`~wavebench.campaign.executor.CampaignResult`), or runs one with a
-progress bar fed per finished chunk and fills in when it is done:
+:class:`~wavebench.campaign.executor.CampaignResult`), the trials finished so
+far of a store whose campaign is still running or was interrupted (marked
+partial: its verdicts are provisional), or runs one with a progress bar fed
+per finished chunk and fills in when it is done:
 
 - the requirement verdicts with their intervals (a table);
 - the histogram and the empirical distribution function (ECDF) of a chosen
@@ -155,6 +157,10 @@ class CampaignDashboard(Twinned):
     store_dir : path-like, optional
         The store folder, when there is one (a clicked trial is then
         compared with its stored row).
+    trials_planned : int, optional
+        For an unfinished campaign (a store still running or interrupted):
+        the trials planned. The panel then says it is partial, and that its
+        verdicts cover the finished trials only.
 
     Without ``metrics`` the panel shows only its progress bar, until
     :meth:`fill` is called (as :meth:`run` does).
@@ -175,7 +181,8 @@ class CampaignDashboard(Twinned):
     title = "Campaign dashboard"
 
     def __init__(self, spec: Any = None, metrics: Any = None, timeseries: Any = None, verdicts: Iterable[Any] = (),
-                 *, store_dir: str | os.PathLike[str] | None = None) -> None:  # fmt: skip
+                 *, store_dir: str | os.PathLike[str] | None = None,
+                 trials_planned: int | None = None) -> None:  # fmt: skip
         import ipywidgets as w
 
         self.progress = w.IntProgress(value=0, min=0, max=1, description="trials", bar_style="info")
@@ -187,22 +194,30 @@ class CampaignDashboard(Twinned):
         self.timeseries = None
         self.verdicts: list[dict[str, Any]] = []
         self.store_dir = store_dir
+        self.trials_planned: int | None = None
         self.player: Any = None
         self.marks: dict[str, Any] = {}
         self.error: BaseException | None = None
         self._thread: threading.Thread | None = None
         if metrics is not None:
-            self.fill(spec, metrics, timeseries, verdicts, store_dir=store_dir)
+            self.fill(spec, metrics, timeseries, verdicts, store_dir=store_dir, trials_planned=trials_planned)
 
     # ------------------------------------------------------------------ construction
 
     @classmethod
     def from_store(cls, store_dir: str | os.PathLike[str]) -> CampaignDashboard:
-        """The dashboard of a store folder written by ``wavebench run``."""
+        """The dashboard of a store folder written by ``wavebench run``, finished or not.
+
+        A store whose campaign is still running (or was interrupted) shows
+        the trials of its finished chunks so far, marked partial
+        (``read_store(store_dir, partial=True)``); open it again to see more.
+        """
         from ..campaign import read_store
 
-        store = read_store(store_dir)
-        return cls(store["spec"], store["metrics"], store["timeseries"], store["verdicts"], store_dir=store_dir)
+        store = read_store(store_dir, partial=True)
+        planned = int(store["manifest"]["trials_planned"]) if store["partial"] else None
+        return cls(store["spec"], store["metrics"], store["timeseries"], store["verdicts"], store_dir=store_dir,
+                   trials_planned=planned)  # fmt: skip
 
     @classmethod
     def from_result(cls, result: Any, *, store_dir: str | os.PathLike[str] | None = None) -> CampaignDashboard:
@@ -297,13 +312,18 @@ class CampaignDashboard(Twinned):
     # ------------------------------------------------------------------ data
 
     def fill(self, spec: Any, metrics: Any, timeseries: Any, verdicts: Iterable[Any], *,
-             store_dir: str | os.PathLike[str] | None = None) -> None:  # fmt: skip
-        """Show a finished campaign (replaces what the panel showed)."""
+             store_dir: str | os.PathLike[str] | None = None, trials_planned: int | None = None) -> None:  # fmt: skip
+        """Show a campaign's trials (replaces what the panel showed).
+
+        ``trials_planned`` is given for an unfinished campaign: the panel is
+        then marked partial (see :meth:`partial_note`).
+        """
         self.spec = spec
         self.metrics = metrics.reset_index(drop=True)
         self.timeseries = timeseries
         self.verdicts = _verdict_dicts(verdicts)
         self.store_dir = store_dir
+        self.trials_planned = None if trials_planned is None else int(trials_planned)
         self.trials = self.metrics["trial"].to_numpy(dtype=np.int64) if "trial" in self.metrics else np.arange(
             len(self.metrics))  # fmt: skip
         self.requirements = [
@@ -315,10 +335,26 @@ class CampaignDashboard(Twinned):
         ]  # fmt: skip
         self.progress.max = max(len(self.metrics), 1)
         self.progress.value = len(self.metrics)
-        if not self.status.value:
+        if self.partial:
+            self.title = f"{type(self).title} (partial: {len(self.metrics)} of {self.trials_planned} trials)"
+            self.progress.max = max(int(self.trials_planned or 0), len(self.metrics), 1)
+            self.progress.bar_style = "warning"
+            self.status.value = self.partial_note()
+        elif not self.status.value:
             self.status.value = f"{len(self.metrics)} trials"
         self._bands: dict[str, Band] = {}
         self._build()
+
+    @property
+    def partial(self) -> bool:
+        """Whether the panel shows an unfinished campaign (its trials finished so far)."""
+        return self.trials_planned is not None
+
+    def partial_note(self) -> str:
+        """``"partial: <done> of <planned> trials finished; the verdicts cover those only"`` ("" when finished)."""
+        if not self.partial or self.metrics is None:
+            return ""
+        return f"partial: {len(self.metrics)} of {self.trials_planned} trials finished; the verdicts cover those only"
 
     def metric_names(self) -> list[str]:
         """Numeric per-trial metrics with finite values: the requirements' first, then the report's main ones."""
@@ -377,6 +413,8 @@ class CampaignDashboard(Twinned):
     def verdict_table(self) -> str:
         """The requirement verdicts with their intervals, as an HTML table (one ``verdict-row`` per requirement)."""
         if not self.verdicts:
+            if self.partial and self.spec is not None and len(self.spec.requirements):
+                return f"<p class='wavebench-partial'><b>{escape(self.partial_note())}</b>: no trial finished yet.</p>"
             return "<p>No requirements in the spec: nothing to pass or fail.</p>"
         head = ("<tr><th>requirement</th><th>condition</th><th>met / trials</th>"
                 "<th>P(met) [Clopper–Pearson interval]</th><th>quantile [bootstrap interval]</th>"
@@ -386,6 +424,10 @@ class CampaignDashboard(Twinned):
             unit = f" {escape(v.get('unit') or '')}" if v.get("unit") else ""
             word = str(v.get("verdict", "?"))
             style = _VERDICT_STYLE.get(word, "background:#ddd;color:#222")
+            shown = escape(word)
+            if self.partial:  # provisional: outlined, not filled, and said so
+                style = "background:#fff;color:#222;border:2px dashed #777"
+                shown = f"{shown} so far"
             symbol = _SYMBOL.get(str(v.get("comparator")), "?")
             cond = (f"<code>{escape(v.get('metric', '?'))}</code> {symbol} {_num(v.get('threshold'), 4)}{unit} "
                     f"with probability ≥ {_num(v.get('probability'), 4)}")  # fmt: skip
@@ -399,9 +441,14 @@ class CampaignDashboard(Twinned):
                 f"<td>q<sub>{_num(v.get('quantile_level'))}</sub> = {_num(v.get('quantile_value'), 4)}{unit} "
                 f"[{_num(v.get('quantile_low'), 4)}, {_num(v.get('quantile_high'), 4)}]</td>"
                 f"<td><span class='verdict' style='{style};font-weight:bold;padding:0 0.4em;border-radius:3px'>"
-                f"{escape(word)}</span></td></tr>"
+                f"{shown}</span></td></tr>"
             )  # fmt: skip
-        return ("<table class='wavebench-verdicts' style='border-collapse:collapse'>" + head + "".join(rows)
+        note = ""
+        if self.partial:
+            note = (f"<p class='wavebench-partial'><b>{escape(self.partial_note())}</b>. The campaign is unfinished "
+                    "(still running or interrupted): these verdicts are provisional, not final; open the store "
+                    "again to see more trials.</p>")  # fmt: skip
+        return (note + "<table class='wavebench-verdicts' style='border-collapse:collapse'>" + head + "".join(rows)
                 + "</table>")  # fmt: skip
 
     # ------------------------------------------------------------------ live panel
@@ -501,7 +548,8 @@ class CampaignDashboard(Twinned):
         def head(text: str) -> Any:
             return w.HTML(f"<h4 style='margin:0.8em 0 0.2em 0'>{escape(text)}</h4>")
 
-        sections = [head("Requirement verdicts"), self.verdict_html,
+        verdicts_head = "Requirement verdicts" + (" (provisional: partial campaign)" if self.partial else "")
+        sections = [head(verdicts_head), self.verdict_html,
                     w.HBox([self.requirement_picker, self.metric_picker, self.input_picker])]  # fmt: skip
         if metrics:
             sections += [head("Per-trial metric"), w.HBox([self.hist_figure, self.ecdf_figure])]
@@ -579,7 +627,7 @@ class CampaignDashboard(Twinned):
             if show:
                 line.x = np.array([np.min(x[keep]), np.max(x[keep])])
                 line.y = np.array([t.threshold, t.threshold])
-        self.scatter_figure.axes[0].label = xcol[len("param."):]
+        self.scatter_figure.axes[0].label = xcol[len("param.") :]
         self.scatter_figure.axes[1].label = ycol
         self._update_sensitivity(ycol)
 
@@ -600,7 +648,7 @@ class CampaignDashboard(Twinned):
     def _update_sensitivity(self, metric: str) -> None:
         table = self.sensitivity(metric)
         rho = table["rho"].to_numpy(dtype=float)
-        labels = [str(p)[len("param."):] for p in table["parameter"]]
+        labels = [str(p)[len("param.") :] for p in table["parameter"]]
         order = np.arange(len(labels))[::-1]  # strongest at the top
         m = self.marks["sensitivity"]
         with m.hold_sync():
@@ -612,7 +660,8 @@ class CampaignDashboard(Twinned):
         self.sensitivity_note.value = (
             "<span style='color:#555'>Spearman rank correlation over the trials with both values "
             "(scipy.stats.spearmanr); a screening measure for monotonic effects."
-            + (f" {n_undef} undefined (drawn as 0)." if n_undef else "") + "</span>"
+            + (f" {n_undef} undefined (drawn as 0)." if n_undef else "")
+            + "</span>"
         )
 
     def _operability_figures(self, req: Requirement) -> str:
@@ -669,7 +718,11 @@ class CampaignDashboard(Twinned):
         if self.spec is None:
             raise ParameterError("spec", None, "the campaign's spec, to replay a trial")
         try:
-            if self.store_dir is not None:
+            if self.store_dir is not None and self.partial:  # no finished store to read yet: the row shown here
+                rows = self.metrics[self.trials == int(trial)]
+                player = TrialPlayer(self.spec, int(trial), stored_metrics=rows.iloc[0] if len(rows) else None,
+                                     source=str(self.store_dir))  # fmt: skip
+            elif self.store_dir is not None:
                 player = TrialPlayer.from_store(self.store_dir, int(trial))
             else:
                 player = TrialPlayer(self.spec, int(trial))
@@ -747,7 +800,9 @@ class CampaignDashboard(Twinned):
             return f"<p>Campaign running: {self.progress.value} of {self.progress.max} trials.</p>"
         src = f" from <code>{escape(self.store_dir)}</code>" if self.store_dir is not None else ""
         head = f"<p>{len(self.metrics)} trials{src}.</p>"
+        if self.partial:
+            head = f"<p><b>{escape(self.partial_note())}</b>{src}.</p>"
+        verdicts_head = "Requirement verdicts" + (" (provisional: partial campaign)" if self.partial else "")
         figs = "".join(f"<figure style='margin:0'>{s}</figure>" for s in self.static_svgs())
-        return (f"{head}<h5>Requirement verdicts</h5>{self.verdict_table()}"
+        return (f"{head}<h5>{verdicts_head}</h5>{self.verdict_table()}"
                 f"<div style='display:flex;flex-wrap:wrap;gap:8px'>{figs}</div>")  # fmt: skip
-
