@@ -72,11 +72,13 @@ def lab(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Lab]:
     notif = settings / "@jupyterlab" / "apputils-extension"
     notif.mkdir(parents=True)
     (notif / "notification.jupyterlab-settings").write_text(
-        json.dumps({"fetchNews": "false", "checkForUpdates": False}), encoding="utf-8")
+        json.dumps({"fetchNews": "false", "checkForUpdates": False}), encoding="utf-8"
+    )
     # the wavebench server extension switched on in the test's own config folder (besides any
     # jupyter_server_config.d file of the environment, which Jupyter reads from sys.prefix/etc/jupyter)
     (tmp / "jupyter_config_dir" / "jupyter_server_config.json").write_text(
-        json.dumps({"ServerApp": {"jpserver_extensions": {"wavebench.labext": True}}}), encoding="utf-8")
+        json.dumps({"ServerApp": {"jpserver_extensions": {"wavebench.labext": True}}}), encoding="utf-8"
+    )
     args = [f"--LabApp.user_settings_dir={settings}", f"--LabApp.workspaces_dir={tmp / 'jupyterlab_workspaces_dir'}",
             "--LabApp.news_url=None"]  # fmt: skip
     with running_server("jupyterlab", tmp=tmp, env=env, root=root, token=TOKEN, args=args,

@@ -36,3 +36,20 @@ def run_all_cells(page) -> None:
         except AssertionError:
             wait_kernel_idle(page)
     raise AssertionError(f"the cells never queued: the first prompt reads {first.inner_text()!r}")
+
+
+def run_first_cell(page) -> None:
+    """Run the first code cell of the visible notebook, retrying while the kernel silently drops
+    the request."""
+    cell = page.locator(".jp-NotebookPanel:visible .jp-Notebook .jp-CodeCell").first
+    prompt = cell.locator(".jp-InputPrompt")
+    for _attempt in range(4):
+        cell.locator(".jp-InputArea-editor").click()
+        page.keyboard.press("Escape")  # command mode on that cell
+        page.keyboard.press("Control+Enter")  # run it, stay on it
+        try:
+            expect(prompt).to_have_text(QUEUED, timeout=10_000)
+            return
+        except AssertionError:
+            wait_kernel_idle(page)
+    raise AssertionError(f"the cell never queued: its prompt reads {prompt.inner_text()!r}")

@@ -71,7 +71,9 @@ def code(_ran):
 
 
 def test_every_cell_ran_without_error(page, code) -> None:
-    nb_errors = page.locator(".jp-NotebookPanel:visible .jp-OutputArea-output[data-mime-type='application/vnd.jupyter.stderr']")
+    nb_errors = page.locator(
+        ".jp-NotebookPanel:visible .jp-OutputArea-output[data-mime-type='application/vnd.jupyter.stderr']"
+    )
     texts = [t for t in nb_errors.all_inner_texts() if "Traceback" in t or "Error" in t]
     assert not texts, texts
     expect(page.locator(".jp-NotebookPanel:visible")).not_to_contain_text("Error displaying widget")

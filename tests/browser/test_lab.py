@@ -20,6 +20,7 @@ from pathlib import Path
 
 import nbformat
 import pytest
+from lab_actions import LONG, run_all_cells, run_first_cell, wait_kernel_idle
 from playwright.sync_api import expect  # the test extra's `playwright`: a missing package fails, never skips
 
 if sys.version_info >= (3, 11):
@@ -28,8 +29,6 @@ else:  # pragma: no cover
     tomllib = pytest.importorskip("tomli")
 
 CARDS = ["First trial", "Navigation study", "Pilot comparison", "Operability study"]
-LONG = 60_000  # ms: kernel start and first widget render on a 2-core machine
-_QUEUED = re.compile(r"\[(\*|\d+)\]")  # an input prompt once the cell is queued ([*]) or has run ([n])
 
 
 def _scenario_name(spec_file: Path) -> str:
@@ -44,28 +43,6 @@ def _make_store(out: Path) -> None:
                "--set", "scenario.duration_s=20.0", "--quiet"])  # fmt: skip
     assert rc in (0, None, 1)  # 1: a verdict may fail; the store is written either way
     assert (out / "manifest.json").is_file()
-
-
-def _wait_kernel_idle(page) -> None:
-    # jupyter-testing.md: the notebook says idle before its session exists; the status bar
-    # shows the kernel's display name and "Idle" only once the kernel is really there.
-    expect(page.locator("#jp-main-statusbar")).to_contain_text("(ipykernel) | Idle", timeout=LONG)
-
-
-def _run_first_cell(page) -> None:
-    """Run the first code cell, retrying while the kernel silently drops the request."""
-    cell = page.locator(".jp-Notebook .jp-CodeCell").first
-    prompt = cell.locator(".jp-InputPrompt")
-    for _attempt in range(4):
-        cell.locator(".jp-InputArea-editor").click()
-        page.keyboard.press("Escape")  # command mode on that cell
-        page.keyboard.press("Control+Enter")  # run it, stay on it
-        try:
-            expect(prompt).to_have_text(_QUEUED, timeout=10_000)
-            return
-        except AssertionError:
-            _wait_kernel_idle(page)
-    raise AssertionError(f"the cell never queued: its prompt reads {prompt.inner_text()!r}")
 
 
 def _show_side_panel(page, panel_id: str):
@@ -86,7 +63,8 @@ def test_launcher_section_and_first_trial_notebook(page, lab) -> None:
     before = set(lab.root.glob("*.ipynb"))
     lab.open(page)
     section = page.locator(".jp-Launcher-section").filter(
-        has=page.locator(".jp-Launcher-sectionTitle", has_text=re.compile(r"^wavebench$")))
+        has=page.locator(".jp-Launcher-sectionTitle", has_text=re.compile(r"^wavebench$"))
+    )
     expect(section).to_have_count(1)
     cards = section.locator(".jp-LauncherCard")
     expect(cards).to_have_count(4)
@@ -151,6 +129,96 @@ def test_campaigns_panel_lists_stores_and_follows_a_campaign(page, lab) -> None:
     expect(running.locator(".wb-Store-count")).to_have_text("6 / 8 trials", timeout=30_000)
 
 
+def _store_row(panel, path: str):
+    return panel.locator(".wb-Store").filter(
+        has=panel.page.locator(".wb-Store-path", has_text=re.compile(f"^{re.escape(path)}$"))
+    )
+
+
+@pytest.mark.filterwarnings("ignore::DeprecationWarning")
+def test_campaigns_panel_opens_a_report_and_a_notebook_that_loads_the_store(page, lab) -> None:
+    import pandas as pd
+
+    from wavebench.cli import main
+
+    store = lab.root / "opened" / "leg"
+    _make_store(store)
+    assert main(["report", str(store)]) in (0, None)
+    scenario = _scenario_name(store / "spec.toml")
+    lab.open(page)
+    panel = _show_side_panel(page, "wavebench-campaigns")
+    row = _store_row(panel, "opened/leg")
+    expect(row.locator(".wb-Store-report")).to_be_visible(timeout=30_000)
+
+    # a store with a report: a click opens the report in a new browser tab, through the server
+    with page.expect_popup() as popup_info:
+        row.locator(".wb-Store-scenario").click()
+    report = popup_info.value
+    report.wait_for_load_state()
+    assert report.url.split("?")[0].endswith("/files/opened/leg/report.html"), report.url
+    expect(report.locator("body")).to_contain_text(scenario)
+    report.close()
+
+    # "notebook": a new notebook beside the store whose code loads it; run, it draws the dashboard
+    before = set((lab.root / "opened").glob("*.ipynb"))
+    row.locator(".wb-Store-notebook").click()
+    code = page.locator(".jp-NotebookPanel:visible .jp-CodeCell").first
+    expect(code).to_contain_text("CampaignDashboard.from_store(", timeout=LONG)
+    new = set((lab.root / "opened").glob("*.ipynb")) - before
+    assert len(new) == 1, new
+    wait_kernel_idle(page)
+    run_all_cells(page)
+    # what the dashboard must show, read from the store with reference readers (json, pandas)
+    verdicts = json.loads((store / "verdicts.json").read_text(encoding="utf-8"))
+    metrics = pd.read_parquet(store / "metrics.parquet")
+    output = code.locator(".jp-OutputArea-output").first
+    for v in verdicts:
+        expect(output).to_contain_text(v["name"], timeout=LONG)
+    scatter = (
+        output.locator(".bqplot.figure")
+        .filter(has=page.locator("text.mainheading", has_text="Metric against a drawn input"))
+        .first
+    )
+    expect(scatter.locator("path.dot")).to_have_count(len(metrics), timeout=LONG)
+    expect(page.locator(".jp-NotebookPanel:visible [data-mime-type='application/vnd.jupyter.error']")).to_have_count(0)
+
+
+def test_palette_lists_the_wavebench_commands_and_opens_a_selected_spec(page, lab) -> None:
+    from wavebench.spec import example_spec_path
+
+    spec = lab.root / "palette_spec.toml"
+    shutil.copy(example_spec_path("skerrow_sound"), spec)
+    scenario = _scenario_name(spec)
+    lab.open(page)
+    browser = _show_side_panel(page, "filebrowser")
+    item = browser.locator(".jp-DirListing-item").filter(
+        has=page.locator(".jp-DirListing-itemText", has_text=re.compile(r"^palette_spec\.toml$"))
+    )
+    expect(item).to_have_count(1, timeout=30_000)
+    item.click()  # selected in the file browser
+
+    page.keyboard.press("Control+Shift+C")
+    palette = page.locator("#command-palette")
+    expect(palette).to_be_visible()
+    page.keyboard.type("wavebench")
+    header = palette.locator(".lm-CommandPalette-header", has_text=re.compile(r"^wavebench$", re.I))
+    expect(header).to_have_count(1)
+    labels = palette.locator(".lm-CommandPalette-item:not(.lm-mod-disabled) .lm-CommandPalette-itemLabel")
+    for card in CARDS:
+        expect(labels.filter(has_text=f"New trial notebook: {card}")).to_have_count(1)
+    for label in (
+        "Refresh campaigns",
+        "Show campaigns panel",
+        "Open spec summary",
+        "New trial notebook from this spec",
+    ):
+        expect(labels.filter(has_text=label)).to_have_count(1)
+    palette.locator(".lm-CommandPalette-input").fill("Open spec summary")
+    labels.filter(has_text="Open spec summary").first.click()
+    summary = page.locator(".wb-SpecSummary:visible")
+    expect(summary.locator("h2")).to_have_text(scenario, timeout=30_000)
+
+
 # --- 3. spec view ------------------------------------------------------------------------------
 
 
@@ -163,7 +231,8 @@ def test_open_with_wavebench_spec_shows_summary(page, lab) -> None:
     lab.open(page)
     browser = _show_side_panel(page, "filebrowser")
     item = browser.locator(".jp-DirListing-item").filter(
-        has=page.locator(".jp-DirListing-itemText", has_text=re.compile(r"^leg_spec\.toml$")))
+        has=page.locator(".jp-DirListing-itemText", has_text=re.compile(r"^leg_spec\.toml$"))
+    )
     expect(item).to_have_count(1, timeout=30_000)
     item.click(button="right")
     page.locator(".lm-Menu-item", has_text="Open With").hover()
@@ -189,8 +258,7 @@ def _write_notebook(path: Path, cells: list) -> None:
 
 
 def _hs_input(page):
-    row = page.locator(".widget-hbox").filter(
-        has=page.locator("> .widget-label", has_text=re.compile(r"^hs_m \[m\]$")))
+    row = page.locator(".widget-hbox").filter(has=page.locator("> .widget-label", has_text=re.compile(r"^hs_m \[m\]$")))
     return row.locator("input[type='number']").first
 
 
@@ -201,8 +269,8 @@ def test_sea_panel_renders_and_hs_redraws_spectrum(page, lab) -> None:
     _write_notebook(lab.root / "sea_live.ipynb", [nbformat.v4.new_code_cell(SEA_NOTEBOOK_SOURCE)])
     lab.open(page, "lab/tree/sea_live.ipynb")
     expect(page.locator(".jp-NotebookPanel:visible .jp-CodeCell").first).to_be_visible(timeout=LONG)
-    _wait_kernel_idle(page)
-    _run_first_cell(page)
+    wait_kernel_idle(page)
+    run_first_cell(page)
 
     figures = page.locator(".jp-OutputArea .bqplot.figure")
     expect(figures.first.locator("svg").first).to_be_visible(timeout=LONG)
@@ -254,7 +322,7 @@ def _open_output(page, lab, name: str):
     lab.open(page, f"lab/tree/{name}")
     output = page.locator(".jp-NotebookPanel:visible .jp-OutputArea-output").first
     expect(output).to_be_visible(timeout=LONG)
-    _wait_kernel_idle(page)  # the widget manager has connected: whatever it will draw is drawn
+    wait_kernel_idle(page)  # the widget manager has connected: whatever it will draw is drawn
     return output
 
 
@@ -267,14 +335,15 @@ def test_untrusted_notebook_without_widget_state_shows_twin_table(page, lab) -> 
     expect(output).not_to_contain_text("model not found")
 
 
-@pytest.mark.xfail(strict=True, raises=AssertionError, reason="JupyterLab's HTML sanitiser removes the twin's inline <svg> in an untrusted "
-                   "notebook: only the axis text is left (an <img> with a data: SVG URI might survive; follow-up)")
 @pytest.mark.filterwarnings("ignore::DeprecationWarning")
 def test_untrusted_notebook_without_widget_state_shows_twin_plots(page, lab) -> None:
     _shared_notebook(lab, "shared_plots.ipynb", trusted=False)
     output = _open_output(page, lab, "shared_plots.ipynb")
     expect(output).to_contain_text(TWIN_ROW, timeout=30_000)
-    expect(output.locator("svg").first).to_be_visible(timeout=10_000)
+    # the charts are <img> data URIs, which the sanitiser keeps (it strips inline <svg>)
+    chart = output.locator("img.wavebench-twin-chart").first
+    expect(chart).to_be_visible(timeout=10_000)
+    assert chart.evaluate("img => img.complete && img.naturalWidth > 0"), "the chart image did not decode"
 
 
 # In a trusted notebook the widget view wins, and without saved widget state ipywidgets can only
@@ -375,8 +444,8 @@ def test_plain_widget_without_twin_behaves_as_before(page, lab) -> None:
     _write_notebook(lab.root / "slider_live.ipynb", [nbformat.v4.new_code_cell(INT_SLIDER_SOURCE)])
     lab.open(page, "lab/tree/slider_live.ipynb")
     expect(page.locator(".jp-NotebookPanel:visible .jp-CodeCell").first).to_be_visible(timeout=LONG)
-    _wait_kernel_idle(page)
-    _run_first_cell(page)
+    wait_kernel_idle(page)
+    run_first_cell(page)
     output = page.locator(".jp-NotebookPanel:visible .jp-OutputArea-output").first
     slider = output.locator(".widget-hslider")
     expect(slider).to_be_visible(timeout=LONG)

@@ -88,9 +88,18 @@ export function reportUrl(settings: ServerConnection.ISettings, path: string): s
 }
 
 export class CampaignsPanel extends Widget {
-  constructor(settings: ServerConnection.ISettings) {
+  /**
+   * @param settings - the server connection (base URL, token)
+   * @param onOpenNotebook - opens a new notebook that loads the store at this path
+   *   below the server root
+   */
+  constructor(
+    settings: ServerConnection.ISettings,
+    onOpenNotebook: (path: string) => Promise<unknown>
+  ) {
     super();
     this._settings = settings;
+    this._onOpenNotebook = onOpenNotebook;
     this.addClass('wb-Campaigns');
 
     const header = document.createElement('div');
@@ -180,7 +189,7 @@ export class CampaignsPanel extends Widget {
     item.className = `wb-Store wb-mod-${store.state}`;
     item.title = store.report
       ? `Open ${store.path}/report.html in a new tab`
-      : `${store.path}: no report yet`;
+      : `${store.path}: no report yet; open a notebook that loads it`;
 
     const top = document.createElement('div');
     top.className = 'wb-Store-top';
@@ -216,6 +225,15 @@ export class CampaignsPanel extends Widget {
       link.textContent = 'report ↗';
       progress.append(link);
     }
+    const open = document.createElement('button');
+    open.className = 'wb-Store-notebook jp-mod-styled';
+    open.textContent = 'notebook';
+    open.title = `A new notebook that loads ${store.path} into the campaign dashboard`;
+    open.addEventListener('click', event => {
+      event.stopPropagation();
+      void this._openNotebook(store.path);
+    });
+    progress.append(open);
 
     const verdicts = document.createElement('div');
     verdicts.className = 'wb-Store-verdicts';
@@ -241,13 +259,24 @@ export class CampaignsPanel extends Widget {
       if (store.report) {
         window.open(reportUrl(this._settings, store.path), '_blank', 'noopener');
       } else {
-        note.textContent = 'no report yet';
+        note.textContent = 'no report yet: opening a notebook that loads it';
+        void this._openNotebook(store.path);
       }
     });
     return item;
   }
 
+  private async _openNotebook(path: string): Promise<void> {
+    try {
+      await this._onOpenNotebook(path);
+    } catch (err) {
+      this._status.textContent = `Could not open a notebook for ${path}: ${err}`;
+      this._status.classList.add('wb-mod-error');
+    }
+  }
+
   private _settings: ServerConnection.ISettings;
+  private _onOpenNotebook: (path: string) => Promise<unknown>;
   private _status: HTMLDivElement;
   private _list: HTMLUListElement;
   private _stores: IStoreInfo[] = [];

@@ -5,14 +5,14 @@
  *   from the templates bundled in ./templates.ts;
  * - a left side panel "Campaigns" listing campaign stores from the server
  *   route GET /wavebench/stores;
- * - palette commands (category "wavebench") for each template and for
- *   refreshing the campaign list;
+ * - palette commands (category "wavebench") for each template, for the
+ *   campaign list, for a notebook loading the selected store, and for the
+ *   spec summary view and a trial notebook from the spec;
  * - in notebooks, a wavebench panel's static twin where its live widget
  *   cannot be drawn (./twinfallback.ts).
  */
 
 import {
-  ILabShell,
   JupyterFrontEnd,
   JupyterFrontEndPlugin
 } from '@jupyterlab/application';
@@ -20,6 +20,7 @@ import { ICommandPalette } from '@jupyterlab/apputils';
 import { IDocumentManager } from '@jupyterlab/docmanager';
 import { IDefaultFileBrowser } from '@jupyterlab/filebrowser';
 import { ILauncher } from '@jupyterlab/launcher';
+import { Contents } from '@jupyterlab/services';
 import {
   INotebookTracker,
   INotebookWidgetFactory,
@@ -30,7 +31,13 @@ import {
 import { CampaignsPanel } from './campaigns';
 import { campaignsIcon, wavebenchIcon } from './icons';
 import { SPEC_FACTORY, SpecSummaryFactory } from './specviewer';
-import { ITemplate, specTemplate, TEMPLATES, templateNotebook } from './templates';
+import {
+  ITemplate,
+  specTemplate,
+  storeTemplate,
+  TEMPLATES,
+  templateNotebook
+} from './templates';
 import { installTwinFallback } from './twinfallback';
 
 const CATEGORY = 'wavebench';
@@ -40,6 +47,21 @@ export namespace CommandIDs {
   export const refreshCampaigns = 'wavebench:refresh-campaigns';
   export const showCampaigns = 'wavebench:show-campaigns';
   export const trialFromSpec = 'wavebench:new-trial-from-spec';
+  export const notebookFromStore = 'wavebench:new-notebook-from-store';
+  export const openSpecSummary = 'wavebench:open-spec-summary';
+}
+
+/** The one item selected in the file browser, if exactly one is. */
+function selectedItem(browser: IDefaultFileBrowser | null): Contents.IModel | null {
+  const items = browser ? Array.from(browser.selectedItems()) : [];
+  return items.length === 1 ? items[0] : null;
+}
+
+/** Split a path below the server root into its folder and its last part. */
+function splitPath(path: string): [string, string] {
+  const parts = path.split('/');
+  const name = parts.pop() ?? path;
+  return [parts.join('/'), name];
 }
 
 /** Create an untitled notebook in `dir`, fill it from a template and open it. */
@@ -98,13 +120,40 @@ const campaignsPlugin: JupyterFrontEndPlugin<void> = {
   id: '@wavebench/labextension:campaigns',
   description: 'A side panel listing wavebench campaign stores.',
   autoStart: true,
-  optional: [ILabShell, ICommandPalette],
+  requires: [IDocumentManager],
+  optional: [ICommandPalette, IDefaultFileBrowser],
   activate: (
     app: JupyterFrontEnd,
-    labShell: ILabShell | null,
-    palette: ICommandPalette | null
+    docManager: IDocumentManager,
+    palette: ICommandPalette | null,
+    browser: IDefaultFileBrowser | null
   ): void => {
-    const panel = new CampaignsPanel(app.serviceManager.serverSettings);
+    // the store: the `path` argument, or the store folder selected in the file browser
+    const storePath = (args: { [key: string]: unknown }): string | null => {
+      if (typeof args['path'] === 'string' && args['path']) {
+        return args['path'];
+      }
+      const item = selectedItem(browser);
+      return item?.type === 'directory' && panel.stores.some(s => s.path === item.path)
+        ? item.path
+        : null;
+    };
+    app.commands.addCommand(CommandIDs.notebookFromStore, {
+      label: 'New notebook loading the selected campaign store',
+      caption: 'A notebook beside the store that opens it in the campaign dashboard',
+      isEnabled: args => storePath(args) !== null,
+      execute: args => {
+        const path = storePath(args);
+        if (path === null) {
+          throw new Error('Select a campaign store folder in the file browser first.');
+        }
+        const [dir, name] = splitPath(path);
+        return newTrialNotebook(app, docManager, dir, storeTemplate(name, path));
+      }
+    });
+    const panel = new CampaignsPanel(app.serviceManager.serverSettings, path =>
+      app.commands.execute(CommandIDs.notebookFromStore, { path })
+    );
     panel.id = 'wavebench-campaigns';
     panel.title.icon = campaignsIcon;
     panel.title.caption = 'wavebench campaigns';
@@ -123,7 +172,7 @@ const campaignsPlugin: JupyterFrontEndPlugin<void> = {
     });
     palette?.addItem({ command: CommandIDs.refreshCampaigns, category: CATEGORY });
     palette?.addItem({ command: CommandIDs.showCampaigns, category: CATEGORY });
-    void labShell;
+    palette?.addItem({ command: CommandIDs.notebookFromStore, category: CATEGORY });
   }
 };
 
@@ -133,11 +182,12 @@ const specViewerPlugin: JupyterFrontEndPlugin<void> = {
   description: 'A summary view of wavebench spec files with a button to open one in a trial notebook.',
   autoStart: true,
   requires: [IDocumentManager],
-  optional: [ICommandPalette],
+  optional: [ICommandPalette, IDefaultFileBrowser],
   activate: (
     app: JupyterFrontEnd,
     docManager: IDocumentManager,
-    palette: ICommandPalette | null
+    palette: ICommandPalette | null,
+    browser: IDefaultFileBrowser | null
   ): void => {
     const registry = app.docRegistry;
     let fileTypes = registry.getFileTypesForPath('spec.toml').map(ft => ft.name);
@@ -152,16 +202,49 @@ const specViewerPlugin: JupyterFrontEndPlugin<void> = {
       });
       fileTypes = ['wavebench-toml'];
     }
+    const isSpec = (path: string | undefined): path is string =>
+      typeof path === 'string' && path.toLowerCase().endsWith('.toml');
+    // the spec: the `path` argument, the file of the current tab, or the file
+    // selected in the file browser
+    const specPath = (args: { [key: string]: unknown }, fromTab: boolean): string | null => {
+      if (typeof args['path'] === 'string' && args['path']) {
+        return args['path'];
+      }
+      const current = app.shell.currentWidget;
+      const tabPath = current ? docManager.contextForWidget(current)?.path : undefined;
+      if (fromTab && isSpec(tabPath)) {
+        return tabPath;
+      }
+      const item = selectedItem(browser);
+      return item?.type === 'file' && isSpec(item.path) ? item.path : null;
+    };
     app.commands.addCommand(CommandIDs.trialFromSpec, {
       label: 'New trial notebook from this spec',
       caption: 'A trial notebook beside the spec file that loads it',
+      isEnabled: args => specPath(args, true) !== null,
       execute: args => {
-        const path = String(args['path'] ?? '');
-        const parts = path.split('/');
-        const fileName = parts.pop() ?? path;
-        return newTrialNotebook(app, docManager, parts.join('/'), specTemplate(fileName));
+        const path = specPath(args, true);
+        if (path === null) {
+          throw new Error('Open or select a spec file (.toml) first.');
+        }
+        const [dir, fileName] = splitPath(path);
+        return newTrialNotebook(app, docManager, dir, specTemplate(fileName));
       }
     });
+    app.commands.addCommand(CommandIDs.openSpecSummary, {
+      label: 'Open spec summary',
+      caption: 'The selected spec file (.toml) as a readable summary of its scenario',
+      isEnabled: args => specPath(args, false) !== null,
+      execute: args => {
+        const path = specPath(args, false);
+        if (path === null) {
+          throw new Error('Select a spec file (.toml) in the file browser first.');
+        }
+        return docManager.openOrReveal(path, SPEC_FACTORY);
+      }
+    });
+    palette?.addItem({ command: CommandIDs.trialFromSpec, category: CATEGORY });
+    palette?.addItem({ command: CommandIDs.openSpecSummary, category: CATEGORY });
     const factory = new SpecSummaryFactory(
       {
         name: SPEC_FACTORY,
@@ -173,7 +256,6 @@ const specViewerPlugin: JupyterFrontEndPlugin<void> = {
       path => app.commands.execute(CommandIDs.trialFromSpec, { path })
     );
     registry.addWidgetFactory(factory);
-    void palette;
   }
 };
 

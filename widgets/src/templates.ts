@@ -244,3 +244,41 @@ export function specTemplate(fileName: string): ITemplate {
     ]
   };
 }
+
+/**
+ * A notebook that loads a campaign store: its dashboard (verdicts, distributions,
+ * bands, scatter whose points replay a trial, drivers, operability).
+ *
+ * @param storeName - the store folder's path relative to the new notebook's folder
+ * @param storePath - the store's path below the server root (for the heading)
+ */
+export function storeTemplate(storeName: string, storePath: string): ITemplate {
+  const quoted = JSON.stringify(storeName);
+  return {
+    key: 'from-store',
+    label: `Campaign ${storePath}`,
+    caption: `A notebook that loads the campaign store ${storePath}`,
+    cells: [
+      { kind: 'markdown', source: CAUTION },
+      {
+        kind: 'markdown',
+        source:
+          `# Campaign store \`${storePath}\`\n\n` +
+          'The dashboard reads the store as it is on disk: the requirement verdicts with their ' +
+          'intervals, each metric against its requirement, percentile bands of the recorded ' +
+          'signals, a metric against a drawn input (click a point to replay that trial alone), ' +
+          'the inputs that drive the results and, for a grid over headings and sea states, ' +
+          'the operability chart. A campaign still running shows the trials finished so far; ' +
+          'run the cell again to see more.'
+      },
+      {
+        kind: 'code',
+        source:
+          'from wavebench.ui import CampaignDashboard\n' +
+          '\n' +
+          `dash = CampaignDashboard.from_store(${quoted})\n` +
+          'dash'
+      }
+    ]
+  };
+}
