@@ -182,6 +182,31 @@ def test_campaigns_panel_opens_a_report_and_a_notebook_that_loads_the_store(page
     expect(scatter.locator("path.dot")).to_have_count(len(metrics), timeout=LONG)
     expect(page.locator(".jp-NotebookPanel:visible [data-mime-type='application/vnd.jupyter.error']")).to_have_count(0)
 
+    # an unfinished campaign (stopped after its first chunk, as Ctrl-C stops it): no report, so a
+    # click on its row opens the notebook, which shows the trials finished so far, marked partial
+    from wavebench.campaign import run_campaign
+    from wavebench.core.errors import WavebenchWarning
+    from wavebench.spec import example_spec_path, load_spec
+
+    def stop(_output, done: int, _planned: int) -> None:
+        if done > 0:  # called with 0 before the first chunk
+            raise KeyboardInterrupt
+
+    spec = load_spec(example_spec_path("skerrow_sound"),
+                     ["scenario.duration_s=20.0", "campaign.trials=4", "campaign.batch_size=2"])  # fmt: skip
+    with pytest.warns(WavebenchWarning, match="interrupted"):
+        run_campaign(spec, progress=False, store=lab.root / "opened" / "cut", on_chunk=stop)
+    panel = _show_side_panel(page, "wavebench-campaigns")
+    panel.locator(".wb-Campaigns-refresh").click()
+    row = _store_row(panel, "opened/cut")
+    expect(row.locator(".wb-Store-count")).to_have_text("2 / 4 trials", timeout=30_000)
+    row.locator(".wb-Store-scenario").click()
+    code = page.locator(".jp-NotebookPanel:visible .jp-CodeCell").first
+    expect(code).to_contain_text('CampaignDashboard.from_store("cut")', timeout=LONG)
+    wait_kernel_idle(page)
+    run_all_cells(page)
+    expect(code.locator(".jp-OutputArea-output").first).to_contain_text("partial: 2 of 4 trials finished", timeout=LONG)
+
 
 def test_palette_lists_the_wavebench_commands_and_opens_a_selected_spec(page, lab) -> None:
     from wavebench.spec import example_spec_path
