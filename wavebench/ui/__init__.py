@@ -1,9 +1,10 @@
 """Notebook panels for wavebench (ipywidgets + bqplot).
 
 This is the only part of wavebench that imports Jupyter packages; the engine
-runs headless without it. Every panel also carries a static twin (HTML with
-inline SVG, see :mod:`wavebench.ui.twin`) so a notebook opened without a
-kernel, or converted to HTML, still shows its verdicts and plots.
+runs headless without it. Every panel also carries a static twin (HTML
+tables, the charts as SVG images, see :mod:`wavebench.ui.twin`) so a notebook
+opened without a kernel, untrusted, or converted to HTML, still shows its
+verdicts and plots.
 
 Panels
 ------
