@@ -127,7 +127,7 @@ def _artifact_name(nodeid: str) -> str:
 def pytest_runtest_makereport(item: pytest.Item, call: pytest.CallInfo) -> Iterator[None]:
     outcome = yield
     rep = outcome.get_result()
-    if rep.when != "call" or not rep.failed or hasattr(rep, "wasxfail"):
+    if rep.when not in ("setup", "call") or not rep.failed or hasattr(rep, "wasxfail"):
         return
     folder = ARTIFACTS / _artifact_name(item.nodeid)
     folder.mkdir(parents=True, exist_ok=True)

@@ -24,32 +24,37 @@ def wait_kernel_idle(page, timeout_ms: float = LONG) -> None:
     expect(page.locator("#jp-main-statusbar")).to_contain_text("(ipykernel) | Idle", timeout=timeout_ms)
 
 
-def run_all_cells(page) -> None:
-    """Run every cell from the Run menu, retrying while the kernel silently drops the request."""
-    first = page.locator(".jp-NotebookPanel:visible .jp-CodeCell").first.locator(".jp-InputPrompt")
+def _until_queued(page, prompt, action, what: str) -> None:
+    """Do ``action`` until ``prompt`` shows the cell queued or run; the kernel silently drops a
+    request made before its session exists, so wait for it and try again (four tries)."""
     for _attempt in range(4):
-        page.locator(".lm-MenuBar-item", has_text=re.compile(r"^Run$")).click()
-        page.locator(".lm-Menu-item:visible", has_text=re.compile(r"^Run All Cells")).first.click()
-        try:
-            expect(first).to_have_text(QUEUED, timeout=10_000)
-            return
-        except AssertionError:
-            wait_kernel_idle(page)
-    raise AssertionError(f"the cells never queued: the first prompt reads {first.inner_text()!r}")
-
-
-def run_first_cell(page) -> None:
-    """Run the first code cell of the visible notebook, retrying while the kernel silently drops
-    the request."""
-    cell = page.locator(".jp-NotebookPanel:visible .jp-Notebook .jp-CodeCell").first
-    prompt = cell.locator(".jp-InputPrompt")
-    for _attempt in range(4):
-        cell.locator(".jp-InputArea-editor").click()
-        page.keyboard.press("Escape")  # command mode on that cell
-        page.keyboard.press("Control+Enter")  # run it, stay on it
+        action()
         try:
             expect(prompt).to_have_text(QUEUED, timeout=10_000)
             return
         except AssertionError:
             wait_kernel_idle(page)
-    raise AssertionError(f"the cell never queued: its prompt reads {prompt.inner_text()!r}")
+    raise AssertionError(f"{what} never queued: the prompt reads {prompt.inner_text()!r}")
+
+
+def run_all_cells(page) -> None:
+    """Run every cell of the visible notebook from the Run menu."""
+    first = page.locator(".jp-NotebookPanel:visible .jp-CodeCell").first.locator(".jp-InputPrompt")
+
+    def action() -> None:
+        page.locator(".lm-MenuBar-item", has_text=re.compile(r"^Run$")).click()
+        page.locator(".lm-Menu-item:visible", has_text=re.compile(r"^Run All Cells")).first.click()
+
+    _until_queued(page, first, action, "the cells")
+
+
+def run_first_cell(page) -> None:
+    """Run the first code cell of the visible notebook (Ctrl+Enter in command mode)."""
+    cell = page.locator(".jp-NotebookPanel:visible .jp-Notebook .jp-CodeCell").first
+
+    def action() -> None:
+        cell.locator(".jp-InputArea-editor").click()
+        page.keyboard.press("Escape")  # command mode on that cell
+        page.keyboard.press("Control+Enter")  # run it, stay on it
+
+    _until_queued(page, cell.locator(".jp-InputPrompt"), action, "the cell")

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import dataclasses
 import re
+import sys
 from pathlib import Path
 
 import nbformat
@@ -46,14 +47,21 @@ def _ran(lab, browser):
     nbformat.write(nb, lab.root / "first_trial.ipynb")
     context = browser.new_context(viewport={"width": 1400, "height": 1000})
     page = context.new_page()
-    lab.open(page, "lab/tree/first_trial.ipynb")
-    expect(page.locator(".jp-NotebookPanel:visible .jp-CodeCell").first).to_be_visible(timeout=LONG)
-    wait_kernel_idle(page)
-    run_all_cells(page)
     code = page.locator(".jp-NotebookPanel:visible .jp-CodeCell")
-    expect(code).to_have_count(len(cells))
-    for i in range(len(cells)):
-        expect(code.nth(i).locator(".jp-InputPrompt")).to_have_text(DONE, timeout=RUN_TIMEOUT)
+    try:
+        lab.open(page, "lab/tree/first_trial.ipynb")
+        expect(code.first).to_be_visible(timeout=LONG)
+        wait_kernel_idle(page)
+        run_all_cells(page)
+        expect(code).to_have_count(len(cells))
+        for i in range(len(cells)):
+            expect(code.nth(i).locator(".jp-InputPrompt")).to_have_text(DONE, timeout=RUN_TIMEOUT)
+    except Exception:  # this page is not a test's `page` argument yet: save its screenshot here
+        folder = Path(__file__).resolve().parent / "artifacts" / "first_trial_run"
+        folder.mkdir(parents=True, exist_ok=True)
+        page.screenshot(path=str(folder / "screenshot.png"), full_page=True, timeout=15_000)
+        sys.stderr.write(f"\nscreenshot of the failed run: {folder / 'screenshot.png'}\n")
+        raise
     yield page, code
     context.close()
 

@@ -56,6 +56,16 @@ def _show_side_panel(page, panel_id: str):
     return panel
 
 
+def _file_browser_item(page, name: str):
+    """The file browser's entry for ``name`` (a file in the server root), once it is listed."""
+    browser = _show_side_panel(page, "filebrowser")
+    item = browser.locator(".jp-DirListing-item").filter(
+        has=page.locator(".jp-DirListing-itemText", has_text=re.compile(f"^{re.escape(name)}$"))
+    )
+    expect(item).to_have_count(1, timeout=30_000)
+    return item
+
+
 # --- 1. launcher -------------------------------------------------------------------------------
 
 
@@ -215,11 +225,7 @@ def test_palette_lists_the_wavebench_commands_and_opens_a_selected_spec(page, la
     shutil.copy(example_spec_path("skerrow_sound"), spec)
     scenario = _scenario_name(spec)
     lab.open(page)
-    browser = _show_side_panel(page, "filebrowser")
-    item = browser.locator(".jp-DirListing-item").filter(
-        has=page.locator(".jp-DirListing-itemText", has_text=re.compile(r"^palette_spec\.toml$"))
-    )
-    expect(item).to_have_count(1, timeout=30_000)
+    item = _file_browser_item(page, "palette_spec.toml")
     item.click()  # selected in the file browser
 
     page.keyboard.press("Control+Shift+C")
@@ -254,11 +260,7 @@ def test_open_with_wavebench_spec_shows_summary(page, lab) -> None:
     shutil.copy(example_spec_path("skerrow_sound"), spec)
     scenario = _scenario_name(spec)
     lab.open(page)
-    browser = _show_side_panel(page, "filebrowser")
-    item = browser.locator(".jp-DirListing-item").filter(
-        has=page.locator(".jp-DirListing-itemText", has_text=re.compile(r"^leg_spec\.toml$"))
-    )
-    expect(item).to_have_count(1, timeout=30_000)
+    item = _file_browser_item(page, "leg_spec.toml")
     item.click(button="right")
     page.locator(".lm-Menu-item", has_text="Open With").hover()
     page.locator(".lm-Menu-item", has_text=re.compile(r"^\s*wavebench spec\s*$")).click()

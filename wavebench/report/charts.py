@@ -26,7 +26,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from ..core.errors import ParameterError
-from .svg import PALETTE, Series, Svg, _fmt, nice_ticks
+from .svg import PALETTE, Series, Svg, _fmt, nice_ticks, padded_span
 
 __all__ = [
     "MAP_DEPTH_COLORS",
@@ -403,19 +403,8 @@ def band_chart(
     lxs = [np.asarray(s.x, dtype=float) for s in lines]
     lys = [np.asarray(s.y, dtype=float) for s in lines]
 
-    def span(arrs: list[np.ndarray]) -> tuple[float, float]:
-        vals = [a[np.isfinite(a)] for a in arrs]
-        v = np.concatenate(vals) if vals else np.array([])
-        if v.size == 0:
-            return 0.0, 1.0
-        lo, hi = float(v.min()), float(v.max())
-        if hi == lo:
-            lo, hi = lo - 0.5, hi + 0.5
-        pad = 0.03 * (hi - lo)
-        return lo - pad, hi + pad
-
-    xl = xlim if xlim else span([xv, *lxs])
-    yl = ylim if ylim else span([a for b in parsed for a in b[:2]] + lys)
+    xl = xlim if xlim else padded_span([xv, *lxs])
+    yl = ylim if ylim else padded_span([a for b in parsed for a in b[:2]] + lys)
 
     spans = []
     for k, sp in enumerate(shade):
@@ -777,22 +766,12 @@ def scatter_chart(
     xv, yv = np.asarray(x, dtype=float), np.asarray(y, dtype=float)
     ok = np.isfinite(xv) & np.isfinite(yv)
 
-    def span(a: np.ndarray, extra: Sequence[float] = ()) -> tuple[float, float]:
-        vals = np.concatenate([a[ok], np.asarray(extra, dtype=float)])
-        if vals.size == 0:
-            return 0.0, 1.0
-        lo, hi = float(vals.min()), float(vals.max())
-        if hi == lo:
-            lo, hi = lo - 0.5, hi + 0.5
-        pad = 0.05 * (hi - lo)
-        return lo - pad, hi + pad
-
     ax = _Axes(
         width=width,
         height=height,
         top=48 if title else 30,
-        xlim=span(xv),
-        ylim=span(yv, [hline] if hline is not None and math.isfinite(hline) else []),
+        xlim=padded_span([xv[ok]], pad=0.05),
+        ylim=padded_span([yv[ok], [hline] if hline is not None and math.isfinite(hline) else []], pad=0.05),
     )
     out = ax.open(title, f"n = {int(ok.sum())}")
     ax.grid(out, xlabel, ylabel)

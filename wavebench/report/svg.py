@@ -98,6 +98,37 @@ def _fmt(v: float) -> str:
     return f"{v:g}"
 
 
+def padded_span(arrays: Sequence[ArrayLike], pad: float = 0.03) -> tuple[float, float]:
+    """The range of the finite values of ``arrays``, widened by ``pad`` of its width at each end.
+
+    Parameters
+    ----------
+    arrays : sequence of array_like
+        Values in the axis' unit; NaN and inf are ignored.
+    pad : float
+        Fraction of the range added below and above.
+
+    Returns
+    -------
+    (float, float)
+        ``(0, 1)`` when nothing is finite; a single value ``v`` spans ``v +- 0.5`` before padding.
+
+    Examples
+    --------
+    >>> padded_span([[0.0, 10.0, float("nan")]], pad=0.1)
+    (-1.0, 11.0)
+    """
+    vals = [np.asarray(a, dtype=float).ravel() for a in arrays]
+    v = np.concatenate([a[np.isfinite(a)] for a in vals]) if vals else np.array([])
+    if v.size == 0:
+        return 0.0, 1.0
+    lo, hi = float(v.min()), float(v.max())
+    if hi == lo:
+        lo, hi = lo - 0.5, hi + 0.5
+    margin = pad * (hi - lo)
+    return lo - margin, hi + margin
+
+
 def _content_id(*parts: object) -> str:
     """12 hex digits of a SHA-1 over ``parts`` (arrays by their bytes): stable for the same content."""
     h = hashlib.sha1()
@@ -143,18 +174,8 @@ def line_chart(
     xs = [np.asarray(s.x, dtype=float) for s in series]
     ys = [np.asarray(s.y, dtype=float) for s in series]
 
-    def span(arrs: list[np.ndarray]) -> tuple[float, float]:
-        vals = np.concatenate([a[np.isfinite(a)] for a in arrs]) if arrs else np.array([])
-        if vals.size == 0:
-            return 0.0, 1.0
-        lo, hi = float(vals.min()), float(vals.max())
-        if hi == lo:
-            lo, hi = lo - 0.5, hi + 0.5
-        pad = 0.03 * (hi - lo)
-        return lo - pad, hi + pad
-
-    x0, x1 = xlim if xlim else span(xs)
-    y0, y1 = ylim if ylim else span(ys)
+    x0, x1 = xlim if xlim else padded_span(xs)
+    y0, y1 = ylim if ylim else padded_span(ys)
     if equal_axes:
         sx, sy = pw / (x1 - x0), ph / (y1 - y0)
         s = min(sx, sy)
