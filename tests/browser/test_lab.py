@@ -101,6 +101,42 @@ def test_launcher_section_and_first_trial_notebook(page, lab) -> None:
     assert "Caution" in nb.cells[0].source
 
 
+@pytest.mark.filterwarnings("ignore::DeprecationWarning")
+def test_every_launcher_card_makes_a_notebook_that_runs(page, lab) -> None:
+    """Each card's notebook, as written to disk by the front end, runs top to bottom in a real
+    kernel (nbclient) and shows at least one campaign result card, with no error output."""
+    from nbclient import NotebookClient
+
+    folder = lab.root / "from_cards"
+    folder.mkdir()
+    made: dict[str, Path] = {}
+    for card in CARDS:
+        before = set(folder.glob("*.ipynb"))
+        lab.open(page, "lab/tree/from_cards")  # the file browser in that folder: the card writes there
+        page.locator(".jp-LauncherCard", has_text=card).click()
+        expect(page.locator(".jp-NotebookPanel:visible .jp-Cell").first).to_contain_text("Caution", timeout=LONG)
+        deadline = time.monotonic() + 30
+        while time.monotonic() < deadline:
+            new = set(folder.glob("*.ipynb")) - before
+            if new and nbformat.read(next(iter(new)), as_version=4).cells:
+                break
+            time.sleep(0.2)
+        assert len(new) == 1, (card, new)
+        made[card] = next(iter(new))
+    lab.server.shutdown_kernels()  # the notebooks' own kernels: not needed below
+
+    for card, path in made.items():
+        nb = nbformat.read(path, as_version=4)
+        assert nb.cells[0].cell_type == "markdown" and "no substitute for sea trials" in nb.cells[0].source
+        NotebookClient(nb, timeout=600, kernel_name="python3",
+                       resources={"metadata": {"path": str(folder)}}).execute()  # fmt: skip
+        outputs = [o for c in nb.cells if c.cell_type == "code" for o in c.outputs]
+        errors = [o for o in outputs if o.output_type == "error"]
+        assert not errors, f"{card}: {errors[0].ename}: {errors[0].evalue}"
+        cards = [o for o in outputs if "data-result-hash=" in o.get("data", {}).get("text/html", "")]
+        assert cards, f"{card}: no campaign result card in the outputs"
+
+
 # --- 2. Campaigns panel ------------------------------------------------------------------------
 
 
