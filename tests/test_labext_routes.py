@@ -204,6 +204,30 @@ def test_unreadable_manifest_is_reported(srv: Server) -> None:
         shutil.rmtree(d)
 
 
+def test_manifests_that_cannot_be_read_as_text_are_reported(srv: Server) -> None:
+    """Unreadable without file permissions (so also when the tests run as root): a folder named
+    manifest.json, bytes that are not UTF-8, and a FIFO (a read would block the server)."""
+    root: Path = srv.root
+    made = [root / "odd" / n for n in ("folder", "latin1", "fifo")]
+    for d in made:
+        d.mkdir(parents=True)
+    (made[0] / "manifest.json").mkdir()
+    (made[1] / "manifest.json").write_bytes('{"format": "wavebench-store", "scenario": "B\xe6r"}'.encode("latin-1"))
+    os.mkfifo(made[2] / "manifest.json")
+    try:
+        stores = _by_path(srv.get_json("wavebench/stores"))
+        assert "not a regular file" in stores["odd/folder"]["error"]
+        assert "not UTF-8" in stores["odd/latin1"]["error"]
+        assert "not a regular file" in stores["odd/fifo"]["error"]
+        for path in ("odd/folder", "odd/latin1", "odd/fifo"):
+            status, body = srv.get("wavebench/stores/" + path)
+            assert status == 200, body
+            assert json.loads(body)["error"] == stores[path]["error"]
+        assert srv.get("api/status")[0] == 200
+    finally:
+        shutil.rmtree(root / "odd")
+
+
 def test_store_detail(srv: Server) -> None:
     root: Path = srv.root
     a = srv.get_json("wavebench/stores/runs/a")
