@@ -303,6 +303,26 @@ def test_open_with_wavebench_spec_shows_summary(page, lab) -> None:
     summary = page.locator(".wb-SpecSummary:visible")
     expect(summary.locator("h2")).to_have_text(scenario, timeout=30_000)
 
+    # its button: a trial notebook beside the spec that loads it; run there, its result card carries
+    # the bits of the same campaign run in this process
+    from wavebench.campaign import run_campaign
+    from wavebench.campaign.fingerprint import result_card
+    from wavebench.spec import load_spec
+
+    summary.locator(".wb-SpecSummary-open").click()
+    code = page.locator(".jp-NotebookPanel:visible .jp-CodeCell")
+    expect(code.first).to_contain_text('load_spec("leg_spec.toml")', timeout=LONG)
+    wait_kernel_idle(page)
+    run_all_cells(page)
+    card = code.last.locator(".wavebench-result")
+    expect(card).to_be_visible(timeout=LONG)
+    trials = int(re.search(r"trials=(\d+)", code.last.locator(".jp-InputArea").inner_text()).group(1))
+    want = result_card(run_campaign(load_spec(spec), trials=trials, progress=False)).metadata()["wavebench"]
+    assert (card.get_attribute("data-spec-hash"), card.get_attribute("data-result-hash")) == (
+        want["spec_hash"],
+        want["result_hash"],
+    )
+
 
 # --- 4. a live panel in a running notebook -----------------------------------------------------
 
