@@ -289,18 +289,30 @@ def test_palette_lists_the_wavebench_commands_and_opens_a_selected_spec(page, la
 # --- 3. spec view ------------------------------------------------------------------------------
 
 
-def test_open_with_wavebench_spec_shows_summary(page, lab) -> None:
+def test_spec_files_open_in_the_summary_view(page, lab) -> None:
     from wavebench.spec import example_spec_path
 
     spec = lab.root / "leg_spec.toml"
     shutil.copy(example_spec_path("skerrow_sound"), spec)
+    other = lab.root / "settings.toml"  # a TOML file not named like a spec
+    shutil.copy(spec, other)
     scenario = _scenario_name(spec)
     lab.open(page)
-    item = _file_browser_item(page, "leg_spec.toml")
+    summary = page.locator(".wb-SpecSummary:visible")
+
+    # not named like a spec: a double click opens the text editor; Open With offers the summary
+    item = _file_browser_item(page, "settings.toml")
+    item.dblclick()
+    expect(page.locator(".jp-FileEditor:visible")).to_be_visible(timeout=30_000)
+    expect(summary).to_have_count(0)
     item.click(button="right")
     page.locator(".lm-Menu-item", has_text="Open With").hover()
     page.locator(".lm-Menu-item", has_text=re.compile(r"^\s*wavebench spec\s*$")).click()
-    summary = page.locator(".wb-SpecSummary:visible")
+    expect(summary.locator("h2")).to_have_text(scenario, timeout=30_000)
+
+    # named like a spec (..._spec.toml): the summary is its default view
+    lab.open(page)
+    _file_browser_item(page, "leg_spec.toml").dblclick()
     expect(summary.locator("h2")).to_have_text(scenario, timeout=30_000)
 
     # its button: a trial notebook beside the spec that loads it; run there, its result card carries

@@ -30,7 +30,12 @@ import {
 
 import { CampaignsPanel } from './campaigns';
 import { campaignsIcon, wavebenchIcon } from './icons';
-import { SPEC_FACTORY, SpecSummaryFactory } from './specviewer';
+import {
+  SPEC_FACTORY,
+  SPEC_FILE_TYPE,
+  SPEC_NAME_PATTERN,
+  SpecSummaryFactory
+} from './specviewer';
 import {
   ITemplate,
   specTemplate,
@@ -176,7 +181,10 @@ const campaignsPlugin: JupyterFrontEndPlugin<void> = {
   }
 };
 
-/** A summary view for wavebench spec files (*.toml), opened through "Open With". */
+/**
+ * A summary view for wavebench spec files: the default view of files named like a spec
+ * (`SPEC_NAME_PATTERN`), and under "Open With" for any other *.toml.
+ */
 const specViewerPlugin: JupyterFrontEndPlugin<void> = {
   id: '@wavebench/labextension:spec-viewer',
   description: 'A summary view of wavebench spec files with a button to open one in a trial notebook.',
@@ -202,6 +210,18 @@ const specViewerPlugin: JupyterFrontEndPlugin<void> = {
       });
       fileTypes = ['wavebench-toml'];
     }
+    // files named like a spec (spec.toml, leg_spec.toml, a.spec.toml) open in the summary by
+    // default; any other TOML file (pyproject.toml ...) keeps its editor and has it under Open With
+    registry.addFileType({
+      name: SPEC_FILE_TYPE,
+      displayName: 'wavebench spec',
+      extensions: [],
+      pattern: SPEC_NAME_PATTERN,
+      mimeTypes: ['application/toml'],
+      contentType: 'file',
+      fileFormat: 'text',
+      icon: wavebenchIcon
+    });
     const isSpec = (path: string | undefined): path is string =>
       typeof path === 'string' && path.toLowerCase().endsWith('.toml');
     // the spec: the `path` argument, the file of the current tab, or the file
@@ -249,8 +269,8 @@ const specViewerPlugin: JupyterFrontEndPlugin<void> = {
       {
         name: SPEC_FACTORY,
         label: 'wavebench spec',
-        fileTypes,
-        defaultFor: [],
+        fileTypes: [...fileTypes, SPEC_FILE_TYPE],
+        defaultFor: [SPEC_FILE_TYPE],
         readOnly: true
       },
       path => app.commands.execute(CommandIDs.trialFromSpec, { path })

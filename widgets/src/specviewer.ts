@@ -2,9 +2,10 @@
  * A read-only summary view of a wavebench spec (a TOML file), with a button
  * that opens the spec in a new trial notebook.
  *
- * Registered as the "wavebench spec" widget factory for *.toml files; it is
- * not the default view (pyproject.toml is TOML too), so a spec opens in it
- * through "Open With".
+ * Registered as the "wavebench spec" widget factory for *.toml files. It is
+ * the default view only of files named like a spec (`SPEC_NAME_PATTERN`:
+ * spec.toml as a store holds it, leg_spec.toml, leg.spec.toml); any other
+ * TOML file (pyproject.toml is TOML too) opens in it through "Open With".
  */
 
 import {
@@ -16,6 +17,12 @@ import { Widget } from '@lumino/widgets';
 import { parse } from 'smol-toml';
 
 export const SPEC_FACTORY = 'wavebench spec';
+
+/** The file type of files named like a spec, whose default view is the summary. */
+export const SPEC_FILE_TYPE = 'wavebench-spec';
+
+/** File names that open in the summary by default: `spec.toml` or ending `_spec.toml`, `-spec.toml`, `.spec.toml`. */
+export const SPEC_NAME_PATTERN = '^(.*[._-])?spec\\.toml$';
 
 type Table = { [key: string]: unknown };
 
