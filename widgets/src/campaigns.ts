@@ -219,21 +219,24 @@ export class CampaignsPanel extends Widget {
     count.className = 'wb-Store-count';
     count.textContent = `${store.done ?? '?'} / ${store.planned ?? '?'} trials`;
     progress.append(bar, count);
+
+    const actions = document.createElement('div');
+    actions.className = 'wb-Store-actions';
     if (store.report) {
       const link = document.createElement('span');
       link.className = 'wb-Store-report';
       link.textContent = 'report ↗';
-      progress.append(link);
+      actions.append(link);
     }
     const open = document.createElement('button');
-    open.className = 'wb-Store-notebook jp-mod-styled';
+    open.className = 'wb-Store-notebook';
     open.textContent = 'notebook';
     open.title = `A new notebook that loads ${store.path} into the campaign dashboard`;
     open.addEventListener('click', event => {
       event.stopPropagation();
       void this._openNotebook(store.path);
     });
-    progress.append(open);
+    actions.append(open);
 
     const verdicts = document.createElement('div');
     verdicts.className = 'wb-Store-verdicts';
@@ -251,6 +254,7 @@ export class CampaignsPanel extends Widget {
       err.textContent = store.error;
       item.append(err);
     }
+    item.append(actions);
     const note = document.createElement('div');
     note.className = 'wb-Store-note';
     item.append(note);

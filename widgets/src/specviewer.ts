@@ -62,7 +62,7 @@ export function summaryRows(spec: Table): [string, string, string][] {
     ['current', ['speed_mps', 'set_deg']],
     ['wind', ['speed_mps', 'direction_from_deg']],
     ['mission', ['kind', 'speed_mps']],
-    ['stack', ['navigator']],
+    ['stack', ['navigator', 'guide.kind', 'pilot.kind']],
     ['campaign', ['trials', 'seed']]
   ];
   for (const [section, fields] of wanted) {
@@ -71,17 +71,12 @@ export function summaryRows(spec: Table): [string, string, string][] {
       continue;
     }
     for (const f of fields) {
-      if (f in table) {
-        rows.push([section, f, formatValue(table[f])]);
-      }
-    }
-  }
-  const stack = spec['stack'];
-  if (isTable(stack)) {
-    for (const role of ['guide', 'pilot']) {
-      const t = stack[role];
-      if (isTable(t) && 'kind' in t) {
-        rows.push(['stack', `${role}.kind`, formatValue(t['kind'])]);
+      // "guide.kind": the field `kind` of the sub-table `guide`
+      const [head, sub] = f.split('.');
+      const owner = sub === undefined ? table : table[head];
+      const key = sub ?? head;
+      if (isTable(owner) && key in owner) {
+        rows.push([section, f, formatValue(owner[key])]);
       }
     }
   }
