@@ -22,8 +22,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
-
 from twin_images import twin_svgs
+
 from wavebench.campaign import read_store, run_campaign, write_store
 from wavebench.spec.io import example_spec_path
 from wavebench.spec.schema import spec_from_data

@@ -20,8 +20,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from twin_images import twin_svgs
+
 from wavebench.campaign import read_store, run_campaign, write_store
 from wavebench.campaign.replay import replay_trial
 from wavebench.spec.io import example_spec_path

@@ -24,8 +24,8 @@ from typing import Any
 import numpy as np
 import pytest
 from scipy import integrate
-
 from twin_images import twin_svgs
+
 from wavebench.core.errors import WavebenchWarning
 from wavebench.sea.spectra import SeaSpectrum
 from wavebench.spec import example_spec_names, example_spec_path, load_spec, spec_from_data, spec_to_data

@@ -17,8 +17,8 @@ import xml.etree.ElementTree as ET
 from pathlib import Path
 
 import pytest
-
 from twin_images import twin_svgs
+
 from wavebench.spec import (
     NAVIGATOR_NEEDS,
     NAVIGATORS,
