@@ -46,24 +46,35 @@ def _ran(lab, browser):
         c.outputs, c.execution_count = [], None
     nbformat.write(nb, lab.root / "first_trial.ipynb")
     context = browser.new_context(viewport={"width": 1400, "height": 1000})
-    page = context.new_page()
-    code = page.locator(".jp-NotebookPanel:visible .jp-CodeCell")
     try:
-        lab.open(page, "lab/tree/first_trial.ipynb")
-        expect(code.first).to_be_visible(timeout=LONG)
-        wait_kernel_idle(page)
-        run_all_cells(page)
-        expect(code).to_have_count(len(cells))
-        for i in range(len(cells)):
-            expect(code.nth(i).locator(".jp-InputPrompt")).to_have_text(DONE, timeout=RUN_TIMEOUT)
-    except Exception:  # this page is not a test's `page` argument yet: save its screenshot here
-        folder = Path(__file__).resolve().parent / "artifacts" / "first_trial_run"
+        page = context.new_page()
+        code = page.locator(".jp-NotebookPanel:visible .jp-CodeCell")
+        try:
+            lab.open(page, "lab/tree/first_trial.ipynb")
+            expect(code.first).to_be_visible(timeout=LONG)
+            wait_kernel_idle(page)
+            run_all_cells(page)
+            expect(code).to_have_count(len(cells))
+            for i in range(len(cells)):
+                expect(code.nth(i).locator(".jp-InputPrompt")).to_have_text(DONE, timeout=RUN_TIMEOUT)
+        except Exception:
+            _save_screenshot(page)
+            raise
+        yield page, code
+    finally:
+        context.close()
+
+
+def _save_screenshot(page) -> None:
+    """The page of a failed run, saved beside conftest's artifacts (this page is no test's `page`
+    argument yet, so conftest cannot save it); a failing screenshot does not hide the run's error."""
+    folder = Path(__file__).resolve().parent / "artifacts" / "first_trial_run"
+    try:
         folder.mkdir(parents=True, exist_ok=True)
         page.screenshot(path=str(folder / "screenshot.png"), full_page=True, timeout=15_000)
         sys.stderr.write(f"\nscreenshot of the failed run: {folder / 'screenshot.png'}\n")
-        raise
-    yield page, code
-    context.close()
+    except Exception as err:  # the page may be gone
+        sys.stderr.write(f"\nno screenshot of the failed run: {err!r}\n")
 
 
 @pytest.fixture

@@ -57,7 +57,7 @@ def _show_side_panel(page, panel_id: str):
 
 
 def _file_browser_item(page, name: str):
-    """The file browser's entry for ``name`` (a file in the server root), once it is listed."""
+    """The entry ``name`` of the folder the file browser shows, once it is listed."""
     browser = _show_side_panel(page, "filebrowser")
     item = browser.locator(".jp-DirListing-item").filter(
         has=page.locator(".jp-DirListing-itemText", has_text=re.compile(f"^{re.escape(name)}$"))
@@ -101,7 +101,6 @@ def test_launcher_section_and_first_trial_notebook(page, lab) -> None:
     assert "Caution" in nb.cells[0].source
 
 
-@pytest.mark.filterwarnings("ignore::DeprecationWarning")
 def test_every_launcher_card_makes_a_notebook_that_runs(page, lab) -> None:
     """Each card's notebook, as written to disk by the front end, runs top to bottom in a real
     kernel (nbclient) and shows at least one campaign result card, with no error output."""
@@ -181,7 +180,6 @@ def _store_row(panel, path: str):
     )
 
 
-@pytest.mark.filterwarnings("ignore::DeprecationWarning")
 def test_campaigns_panel_opens_a_report_and_a_notebook_that_loads_the_store(page, lab) -> None:
     import pandas as pd
 
@@ -254,36 +252,61 @@ def test_campaigns_panel_opens_a_report_and_a_notebook_that_loads_the_store(page
     expect(code.locator(".jp-OutputArea-output").first).to_contain_text("partial: 2 of 4 trials finished", timeout=LONG)
 
 
-def test_palette_lists_the_wavebench_commands_and_opens_a_selected_spec(page, lab) -> None:
+def _palette(page, query: str):
+    """Open the command palette, type ``query``; returns (palette, enabled labels, disabled labels)."""
+    page.keyboard.press("Control+Shift+C")
+    palette = page.locator("#command-palette")
+    expect(palette).to_be_visible()
+    palette.locator(".lm-CommandPalette-input").fill(query)
+    enabled = palette.locator(".lm-CommandPalette-item:not(.lm-mod-disabled) .lm-CommandPalette-itemLabel")
+    disabled = palette.locator(".lm-CommandPalette-item.lm-mod-disabled .lm-CommandPalette-itemLabel")
+    return palette, enabled, disabled
+
+
+STORE_COMMAND = "New notebook loading the selected campaign store"
+SPEC_COMMANDS = ("Open spec summary", "New trial notebook from this spec")
+
+
+def test_palette_commands_act_on_what_is_selected(page, lab) -> None:
     from wavebench.spec import example_spec_path
 
     spec = lab.root / "palette_spec.toml"
     shutil.copy(example_spec_path("skerrow_sound"), spec)
     scenario = _scenario_name(spec)
+    _make_store(lab.root / "palette_runs" / "leg")
     lab.open(page)
-    item = _file_browser_item(page, "palette_spec.toml")
-    item.click()  # selected in the file browser
+    _show_side_panel(page, "filebrowser")
 
-    page.keyboard.press("Control+Shift+C")
-    palette = page.locator("#command-palette")
-    expect(palette).to_be_visible()
-    page.keyboard.type("wavebench")
-    header = palette.locator(".lm-CommandPalette-header", has_text=re.compile(r"^wavebench$", re.I))
-    expect(header).to_have_count(1)
-    labels = palette.locator(".lm-CommandPalette-item:not(.lm-mod-disabled) .lm-CommandPalette-itemLabel")
+    # nothing selected, no spec open: the commands that need one are there but greyed out
+    palette, enabled, disabled = _palette(page, "wavebench")
+    expect(palette.locator(".lm-CommandPalette-header", has_text=re.compile(r"^wavebench$", re.I))).to_have_count(1)
     for card in CARDS:
-        expect(labels.filter(has_text=f"New trial notebook: {card}")).to_have_count(1)
-    for label in (
-        "Refresh campaigns",
-        "Show campaigns panel",
-        "Open spec summary",
-        "New trial notebook from this spec",
-    ):
-        expect(labels.filter(has_text=label)).to_have_count(1)
-    palette.locator(".lm-CommandPalette-input").fill("Open spec summary")
-    labels.filter(has_text="Open spec summary").first.click()
+        expect(enabled.filter(has_text=f"New trial notebook: {card}")).to_have_count(1)
+    for label in ("Refresh campaigns", "Show campaigns panel"):
+        expect(enabled.filter(has_text=label)).to_have_count(1)
+    for label in (STORE_COMMAND, *SPEC_COMMANDS):
+        expect(disabled.filter(has_text=label)).to_have_count(1)
+    page.keyboard.press("Escape")
+
+    # a spec selected in the file browser: its summary, then from that tab a trial notebook
+    _file_browser_item(page, "palette_spec.toml").click()
+    _, enabled, _ = _palette(page, "Open spec summary")
+    enabled.filter(has_text="Open spec summary").first.click()
     summary = page.locator(".wb-SpecSummary:visible")
     expect(summary.locator("h2")).to_have_text(scenario, timeout=30_000)
+    summary.click()  # the summary's tab is the current one
+    _, enabled, _ = _palette(page, "New trial notebook from this spec")
+    enabled.filter(has_text="New trial notebook from this spec").first.click()
+    code = page.locator(".jp-NotebookPanel:visible .jp-CodeCell").first
+    expect(code).to_contain_text('load_spec("palette_spec.toml")', timeout=LONG)
+
+    # a store folder selected: a notebook beside it that loads it
+    _file_browser_item(page, "palette_runs").dblclick()
+    _file_browser_item(page, "leg").click()
+    _, enabled, _ = _palette(page, STORE_COMMAND)
+    enabled.filter(has_text=STORE_COMMAND).first.click()
+    expect(code).to_contain_text('CampaignDashboard.from_store("leg")', timeout=LONG)
+    assert len(list((lab.root / "palette_runs").glob("*.ipynb"))) == 1
 
 
 # --- 3. spec view ------------------------------------------------------------------------------
@@ -421,7 +444,9 @@ def _open_output(page, lab, name: str):
     return output
 
 
-@pytest.mark.filterwarnings("ignore::DeprecationWarning")
+@pytest.mark.filterwarnings(
+    "ignore:metadata .* was set from the constructor:DeprecationWarning"
+)  # traitlets, about a dependency
 def test_untrusted_notebook_without_widget_state_shows_twin_table(page, lab) -> None:
     _shared_notebook(lab, "shared_untrusted.ipynb", trusted=False)
     output = _open_output(page, lab, "shared_untrusted.ipynb")
@@ -430,7 +455,9 @@ def test_untrusted_notebook_without_widget_state_shows_twin_table(page, lab) -> 
     expect(output).not_to_contain_text("model not found")
 
 
-@pytest.mark.filterwarnings("ignore::DeprecationWarning")
+@pytest.mark.filterwarnings(
+    "ignore:metadata .* was set from the constructor:DeprecationWarning"
+)  # traitlets, about a dependency
 def test_untrusted_notebook_without_widget_state_shows_twin_plots(page, lab) -> None:
     _shared_notebook(lab, "shared_plots.ipynb", trusted=False)
     output = _open_output(page, lab, "shared_plots.ipynb")
@@ -453,7 +480,9 @@ def _fallback(output):
     return output.locator("> .wb-TwinFallback-live"), output.locator("> .wb-TwinFallback-twin")
 
 
-@pytest.mark.filterwarnings("ignore::DeprecationWarning")
+@pytest.mark.filterwarnings(
+    "ignore:metadata .* was set from the constructor:DeprecationWarning"
+)  # traitlets, about a dependency
 def test_trusted_notebook_without_widget_state_shows_twin(page, lab) -> None:
     _shared_notebook(lab, "shared_trusted.ipynb", trusted=True)
     output = _open_output(page, lab, "shared_trusted.ipynb")
@@ -486,7 +515,9 @@ def _executed_notebook(lab, name: str, source: str, *, trusted: bool) -> dict:
     return dict(saved.metadata["widgets"]["application/vnd.jupyter.widget-state+json"]["state"])
 
 
-@pytest.mark.filterwarnings("ignore::DeprecationWarning")
+@pytest.mark.filterwarnings(
+    "ignore:metadata .* was set from the constructor:DeprecationWarning"
+)  # traitlets, about a dependency
 def test_trusted_notebook_with_widget_state_live_view_or_twin(page, lab) -> None:
     from wavebench.spec import example_spec_path
 
@@ -533,7 +564,9 @@ def test_trusted_notebook_with_widget_state_live_view_or_twin(page, lab) -> None
 INT_SLIDER_SOURCE = "import ipywidgets\nipywidgets.IntSlider(value=7, min=0, max=10, description='knots')"
 
 
-@pytest.mark.filterwarnings("ignore::DeprecationWarning")
+@pytest.mark.filterwarnings(
+    "ignore:metadata .* was set from the constructor:DeprecationWarning"
+)  # traitlets, about a dependency
 def test_plain_widget_without_twin_behaves_as_before(page, lab) -> None:
     # live: the slider drawn by ipywidgets when a kernel runs the cell
     _write_notebook(lab.root / "slider_live.ipynb", [nbformat.v4.new_code_cell(INT_SLIDER_SOURCE)])

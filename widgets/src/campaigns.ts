@@ -59,7 +59,9 @@ export function normaliseStore(raw: any): IStoreInfo {
   };
 }
 
+/** Re-read period while the panel is shown: with a campaign running, and without. */
 const POLL_MS = 5000;
+const IDLE_POLL_MS = 30000;
 
 /** Fetch the list of campaign stores. */
 export async function fetchStores(
@@ -126,7 +128,11 @@ export class CampaignsPanel extends Widget {
     return this._stores;
   }
 
-  /** Read the stores again and redraw; polls while any campaign is running. */
+  /**
+   * Read the stores again and redraw. While the panel is shown it reads them
+   * again every 5 s when a campaign is running, every 30 s otherwise (a new
+   * store appears by then); hidden, it waits until it is shown.
+   */
   async refresh(): Promise<void> {
     this._clearTimer();
     this._status.textContent = 'Reading campaign stores…';
@@ -138,8 +144,10 @@ export class CampaignsPanel extends Widget {
       this._error = err instanceof Error ? err.message : String(err);
     }
     this._render();
-    if (this._stores.some(s => s.state === 'running') && !this.isDisposed) {
-      this._timer = window.setTimeout(() => void this.refresh(), POLL_MS);
+    this._clearTimer(); // a refresh started meanwhile may have set one
+    if (!this.isDisposed && this.isVisible) {
+      const running = this._stores.some(s => s.state === 'running');
+      this._timer = window.setTimeout(() => void this.refresh(), running ? POLL_MS : IDLE_POLL_MS);
     }
   }
 
@@ -151,6 +159,11 @@ export class CampaignsPanel extends Widget {
   protected onAfterAttach(msg: Message): void {
     super.onAfterAttach(msg);
     void this.refresh();
+  }
+
+  protected onBeforeHide(msg: Message): void {
+    this._clearTimer();
+    super.onBeforeHide(msg);
   }
 
   protected onAfterShow(msg: Message): void {
@@ -264,23 +277,34 @@ export class CampaignsPanel extends Widget {
         window.open(reportUrl(this._settings, store.path), '_blank', 'noopener');
       } else {
         note.textContent = 'no report yet: opening a notebook that loads it';
-        void this._openNotebook(store.path);
+        void this._openNotebook(store.path, note);
       }
     });
     return item;
   }
 
-  private async _openNotebook(path: string): Promise<void> {
+  /** Open a notebook loading the store; a second request for the same store while one is being made is ignored. */
+  private async _openNotebook(path: string, note?: HTMLElement): Promise<void> {
+    if (this._opening.has(path)) {
+      return;
+    }
+    this._opening.add(path);
     try {
       await this._onOpenNotebook(path);
     } catch (err) {
       this._status.textContent = `Could not open a notebook for ${path}: ${err}`;
       this._status.classList.add('wb-mod-error');
+    } finally {
+      this._opening.delete(path);
+      if (note) {
+        note.textContent = '';
+      }
     }
   }
 
   private _settings: ServerConnection.ISettings;
   private _onOpenNotebook: (path: string) => Promise<unknown>;
+  private _opening = new Set<string>();
   private _status: HTMLDivElement;
   private _list: HTMLUListElement;
   private _stores: IStoreInfo[] = [];

@@ -16,7 +16,7 @@ import {
   JupyterFrontEnd,
   JupyterFrontEndPlugin
 } from '@jupyterlab/application';
-import { ICommandPalette } from '@jupyterlab/apputils';
+import { ICommandPalette, showErrorMessage } from '@jupyterlab/apputils';
 import { IDocumentManager } from '@jupyterlab/docmanager';
 import { IDefaultFileBrowser } from '@jupyterlab/filebrowser';
 import { ILauncher } from '@jupyterlab/launcher';
@@ -70,7 +70,7 @@ function splitPath(path: string): [string, string] {
 }
 
 /** Create an untitled notebook in `dir`, fill it from a template and open it. */
-async function newTrialNotebook(
+async function newNotebook(
   app: JupyterFrontEnd,
   docManager: IDocumentManager,
   dir: string,
@@ -111,7 +111,7 @@ const templatesPlugin: JupyterFrontEndPlugin<void> = {
         icon: args => (args['isPalette'] ? undefined : wavebenchIcon),
         execute: async args => {
           const cwd = (args['cwd'] as string) ?? browser?.model.path ?? '';
-          return newTrialNotebook(app, docManager, cwd, t);
+          return newNotebook(app, docManager, cwd, t);
         }
       });
       launcher?.add({ command: id, category: 'wavebench', rank });
@@ -133,29 +133,6 @@ const campaignsPlugin: JupyterFrontEndPlugin<void> = {
     palette: ICommandPalette | null,
     browser: IDefaultFileBrowser | null
   ): void => {
-    // the store: the `path` argument, or the store folder selected in the file browser
-    const storePath = (args: { [key: string]: unknown }): string | null => {
-      if (typeof args['path'] === 'string' && args['path']) {
-        return args['path'];
-      }
-      const item = selectedItem(browser);
-      return item?.type === 'directory' && panel.stores.some(s => s.path === item.path)
-        ? item.path
-        : null;
-    };
-    app.commands.addCommand(CommandIDs.notebookFromStore, {
-      label: 'New notebook loading the selected campaign store',
-      caption: 'A notebook beside the store that opens it in the campaign dashboard',
-      isEnabled: args => storePath(args) !== null,
-      execute: args => {
-        const path = storePath(args);
-        if (path === null) {
-          throw new Error('Select a campaign store folder in the file browser first.');
-        }
-        const [dir, name] = splitPath(path);
-        return newTrialNotebook(app, docManager, dir, storeTemplate(name, path));
-      }
-    });
     const panel = new CampaignsPanel(app.serviceManager.serverSettings, path =>
       app.commands.execute(CommandIDs.notebookFromStore, { path })
     );
@@ -163,6 +140,40 @@ const campaignsPlugin: JupyterFrontEndPlugin<void> = {
     panel.title.icon = campaignsIcon;
     panel.title.caption = 'wavebench campaigns';
     app.shell.add(panel, 'left', { rank: 850 });
+
+    // the store: the `path` argument, or the folder selected in the file browser
+    const storePath = (args: { [key: string]: unknown }): string | null => {
+      if (typeof args['path'] === 'string' && args['path']) {
+        return args['path'];
+      }
+      const item = selectedItem(browser);
+      return item?.type === 'directory' ? item.path : null;
+    };
+    const isStore = (path: string): boolean => panel.stores.some(s => s.path === path);
+    app.commands.addCommand(CommandIDs.notebookFromStore, {
+      label: 'New notebook loading the selected campaign store',
+      caption: 'A notebook beside the store that opens it in the campaign dashboard',
+      isEnabled: args => storePath(args) !== null,
+      execute: async args => {
+        const path = storePath(args);
+        if (path === null) {
+          throw new Error('Select a campaign store folder in the file browser first.');
+        }
+        if (!isStore(path)) {
+          await panel.refresh(); // a store made since the panel last read the list
+        }
+        if (!isStore(path)) {
+          await showErrorMessage(
+            'Not a campaign store',
+            `${path || 'The server root'} holds no campaign store (no manifest.json, no ` +
+              'chunks/plan.json), or it is deeper than the Campaigns panel looks.'
+          );
+          return;
+        }
+        const [dir, name] = splitPath(path);
+        return newNotebook(app, docManager, dir, storeTemplate(name, path));
+      }
+    });
 
     app.commands.addCommand(CommandIDs.refreshCampaigns, {
       label: 'Refresh campaigns',
@@ -222,7 +233,8 @@ const specViewerPlugin: JupyterFrontEndPlugin<void> = {
       fileFormat: 'text',
       icon: wavebenchIcon
     });
-    const isSpec = (path: string | undefined): path is string =>
+    // any TOML file: the summary says so when it is not a wavebench spec
+    const isToml = (path: string | undefined): path is string =>
       typeof path === 'string' && path.toLowerCase().endsWith('.toml');
     // the spec: the `path` argument, the file of the current tab, or the file
     // selected in the file browser
@@ -232,11 +244,11 @@ const specViewerPlugin: JupyterFrontEndPlugin<void> = {
       }
       const current = app.shell.currentWidget;
       const tabPath = current ? docManager.contextForWidget(current)?.path : undefined;
-      if (fromTab && isSpec(tabPath)) {
+      if (fromTab && isToml(tabPath)) {
         return tabPath;
       }
       const item = selectedItem(browser);
-      return item?.type === 'file' && isSpec(item.path) ? item.path : null;
+      return item?.type === 'file' && isToml(item.path) ? item.path : null;
     };
     app.commands.addCommand(CommandIDs.trialFromSpec, {
       label: 'New trial notebook from this spec',
@@ -248,7 +260,7 @@ const specViewerPlugin: JupyterFrontEndPlugin<void> = {
           throw new Error('Open or select a spec file (.toml) first.');
         }
         const [dir, fileName] = splitPath(path);
-        return newTrialNotebook(app, docManager, dir, specTemplate(fileName));
+        return newNotebook(app, docManager, dir, specTemplate(fileName));
       }
     });
     app.commands.addCommand(CommandIDs.openSpecSummary, {

@@ -21,11 +21,28 @@ export interface ITemplate {
   cells: ICellSource[];
 }
 
-export const CAUTION =
+const CAUTION_HEAD =
   '> **Caution.** A simulation is no substitute for sea trials, certification or the ' +
-  'collision regulations. The numbers below come from models with invented demo data; ' +
+  'collision regulations. ';
+const CAUTION_TAIL =
   'defer to local rules, the vessel\'s approved documents and licensed practice before ' +
   'acting on them at sea.';
+
+/** The caution cell of the templates, which run built-in specs with invented demo data. */
+export const CAUTION =
+  CAUTION_HEAD + 'The numbers below come from models with invented demo data; ' + CAUTION_TAIL;
+
+/** The caution cell of notebooks that load the user's own spec or store. */
+export const CAUTION_OWN =
+  CAUTION_HEAD + 'The numbers below come from models, whatever data went into them; ' + CAUTION_TAIL;
+
+/** `text` as a Markdown code span, whatever backticks it holds (CommonMark 6.1). */
+export function markdownCode(text: string): string {
+  const longest = Math.max(0, ...(text.match(/`+/g) ?? []).map(run => run.length));
+  const fence = '`'.repeat(longest + 1);
+  const pad = longest > 0 ? ' ' : '';
+  return `${fence}${pad}${text}${pad}${fence}`;
+}
 
 export const TEMPLATES: ITemplate[] = [
   {
@@ -217,11 +234,11 @@ export function specTemplate(fileName: string): ITemplate {
     label: `Trial from ${fileName}`,
     caption: `A trial notebook that loads ${fileName}`,
     cells: [
-      { kind: 'markdown', source: CAUTION },
+      { kind: 'markdown', source: CAUTION_OWN },
       {
         kind: 'markdown',
         source:
-          `# Trial from \`${fileName}\`\n\n` +
+          `# Trial from ${markdownCode(fileName)}\n\n` +
           'Loads the spec file beside this notebook, runs a small campaign with its seed and ' +
           'shows the result card. Leave out `trials=` to run as many trials as the spec asks.'
       },
@@ -259,11 +276,11 @@ export function storeTemplate(storeName: string, storePath: string): ITemplate {
     label: `Campaign ${storePath}`,
     caption: `A notebook that loads the campaign store ${storePath}`,
     cells: [
-      { kind: 'markdown', source: CAUTION },
+      { kind: 'markdown', source: CAUTION_OWN },
       {
         kind: 'markdown',
         source:
-          `# Campaign store \`${storePath}\`\n\n` +
+          `# Campaign store ${markdownCode(storePath)}\n\n` +
           'The dashboard reads the store as it is on disk: the requirement verdicts with their ' +
           'intervals, each metric against its requirement, percentile bands of the recorded ' +
           'signals, a metric against a drawn input (click a point to replay that trial alone), ' +
