@@ -170,6 +170,20 @@ def test_static_twin_holds_the_verdicts_and_svg_charts_and_no_script(store: Path
         assert f">{v['verdict']}</span>" in page
 
 
+def test_the_verdicts_carry_the_reports_caution_live_and_in_the_twin(dash: CampaignDashboard) -> None:
+    from html import escape
+
+    from wavebench.report.html import CAUTION
+
+    # one wording: the reports' caution, below the verdict table of the live panel and of its static twin
+    line = f"<b>Caution.</b> {escape(CAUTION)}</p>"
+    live = dash.verdict_html.value
+    assert line in live and live.index("</table>") < live.index(line)
+    assert line in dash.static_html() and line in dash._repr_mimebundle_()["text/html"]
+    for words in ("no substitute for sea trials", "certification", "Preventing Collisions at Sea", "local rules"):
+        assert words in CAUTION
+
+
 def _watch_progress(monkeypatch: pytest.MonkeyPatch) -> list[int]:
     """Every value the progress bar of the next dashboard takes, in order."""
     seen: list[int] = []

@@ -48,7 +48,7 @@ import numpy as np
 from ..analysis.verdicts import Verdict
 from ..core.errors import ParameterError, WavebenchWarning
 from ..spec.io import dump_spec, load_spec, spec_hash
-from .chunks import CHUNKS_DIR
+from .chunks import CHUNKS_DIR, _atomic_write_text
 from .executor import CampaignResult, evaluate_verdicts
 from .series import LEGACY_NAME, SERIES_NAME, open_timeseries, write_series
 
@@ -94,7 +94,10 @@ def write_store(result: CampaignResult, out_dir: str | os.PathLike[str], *, time
         raise ParameterError("out", str(out), "must be a folder (it exists and is a file)")
     out.mkdir(parents=True, exist_ok=True)
     spec = result.spec
-    (out / "spec.toml").write_text(dump_spec(spec), encoding="utf-8")
+    # spec.toml, verdicts.json and manifest.json by a temporary name and a rename, so that a store read while
+    # its campaign finishes (read_store(..., partial=True)) never sees one half written; manifest.json, the
+    # finished-store marker, goes last
+    _atomic_write_text(out / "spec.toml", dump_spec(spec))
     result.metrics.to_parquet(out / "metrics.parquet", index=False)
     series = out / SERIES_NAME
     if timeseries_written:
@@ -105,7 +108,7 @@ def write_store(result: CampaignResult, out_dir: str | os.PathLike[str], *, time
         shutil.rmtree(series)
     (out / LEGACY_NAME).unlink(missing_ok=True)
     verdicts = [v.to_dict() for v in result.verdicts]
-    (out / "verdicts.json").write_text(json.dumps(verdicts, indent=1, allow_nan=False), encoding="utf-8")
+    _atomic_write_text(out / "verdicts.json", json.dumps(verdicts, indent=1, allow_nan=False))
     versions = package_versions()
     manifest = {
         "format": STORE_FORMAT,
@@ -125,7 +128,7 @@ def write_store(result: CampaignResult, out_dir: str | os.PathLike[str], *, time
         "scenario": spec.scenario.name,
         "craft": spec.craft.build().name,
     }
-    (out / "manifest.json").write_text(json.dumps(manifest, indent=1), encoding="utf-8")
+    _atomic_write_text(out / "manifest.json", json.dumps(manifest, indent=1))
     return out
 
 
@@ -204,7 +207,7 @@ def _read_unfinished(d: Path) -> dict[str, Any]:
 
     from ..analysis.metric_names import METRICS
 
-    plan = json.loads((d / CHUNKS_DIR / "plan.json").read_text(encoding="utf-8"))
+    plan, planned = _read_plan(d / CHUNKS_DIR / "plan.json")
     spec_path = d / "spec.toml"
     if not spec_path.is_file():
         raise ParameterError("store", str(d), "must hold spec.toml beside chunks/plan.json (written when the "
@@ -243,13 +246,37 @@ def _read_unfinished(d: Path) -> dict[str, Any]:
         "seed": plan.get("seed"),
         "trials": len(metrics),
         "trials_done": len(metrics),
-        "trials_planned": int(plan["trials"]),
+        "trials_planned": planned,
         "batch_size": plan.get("batch_size"),
         "scenario": spec.scenario.name,
         "craft": spec.craft.build().name,
     }
     return {"spec": spec, "manifest": manifest, "metrics": metrics, "timeseries": ts, "verdicts": verdicts,
             "partial": True}  # fmt: skip
+
+
+def _read_plan(path: Path) -> tuple[dict[str, Any], int]:
+    """``chunks/plan.json`` of an unfinished store and its planned trials.
+
+    Raises
+    ------
+    ParameterError
+        When the file is not a JSON object, or its ``trials`` is not a whole number >= 1.
+    """
+    text = path.read_text(encoding="utf-8")
+    try:
+        plan = json.loads(text)
+    except json.JSONDecodeError as exc:
+        raise ParameterError("chunks/plan.json", text[:80], "must be the JSON object written when the campaign "
+                             f"was planned (it is not JSON: {exc})") from exc  # fmt: skip
+    if not isinstance(plan, dict):
+        raise ParameterError("chunks/plan.json", plan, "must be a JSON object (spec_hash, seed, trials, "
+                             "batch_size, record, ...) as written when the campaign was planned")  # fmt: skip
+    trials = plan.get("trials")
+    if isinstance(trials, bool) or not isinstance(trials, int) or trials < 1:
+        raise ParameterError("chunks/plan.json trials", trials, "must be a whole number >= 1 (the trials "
+                             "planned)")  # fmt: skip
+    return plan, trials
 
 
 def export_netcdf(store_dir: str | os.PathLike[str], out_path: str | os.PathLike[str]) -> Path:

@@ -42,7 +42,7 @@ from numpy.typing import NDArray
 from ..core.errors import ParameterError
 from ..report.campaign import MAIN_METRICS, nan_percentiles
 from ..report.charts import band_chart, histogram_chart, histogram_counts, scatter_chart, signed_bar_chart
-from ..report.html import cell_number, escape
+from ..report.html import CAUTION, cell_number, escape
 from ..report.navigation import NAV_METRICS
 from ..report.study import DIRECTION_COLUMN, HS_COLUMN, MIN_CELL_TRIALS, Requirement, meets
 from ..report.svg import PALETTE, Series, line_chart
@@ -65,6 +65,8 @@ _VERDICT_STYLE = {
     "fail": "background:#b3261e;color:#fff",
     "undecided": "background:#f2c94c;color:#3d2e00",
 }
+#: Progress bar style of a filled panel that shows a finished campaign (as the bar starts).
+_FINISHED_BAR = "info"
 _SYMBOL = {"below": "<", "above": ">"}
 #: Signals offered for the bands, in order (those with finite values).
 _BAND_SIGNALS = ("xte_m", "nav_err_m", "heading_deg", "surge_mps", "sway_mps", "yaw_rate_dps", "power_w", "nees")
@@ -185,7 +187,7 @@ class CampaignDashboard(Twinned):
                  trials_planned: int | None = None) -> None:  # fmt: skip
         import ipywidgets as w
 
-        self.progress = w.IntProgress(value=0, min=0, max=1, description="trials", bar_style="info")
+        self.progress = w.IntProgress(value=0, min=0, max=1, description="trials", bar_style=_FINISHED_BAR)
         self.status = w.Label("")
         self.body = w.VBox([])
         self.widget = w.VBox([w.HBox([self.progress, self.status]), self.body])
@@ -316,8 +318,11 @@ class CampaignDashboard(Twinned):
         """Show a campaign's trials (replaces what the panel showed).
 
         ``trials_planned`` is given for an unfinished campaign: the panel is
-        then marked partial (see :meth:`partial_note`).
+        then marked partial (see :meth:`partial_note`). Without it a panel
+        that showed a partial campaign loses its partial title, note and bar
+        style.
         """
+        was_partial = self.partial
         self.spec = spec
         self.metrics = metrics.reset_index(drop=True)
         self.timeseries = timeseries
@@ -340,8 +345,13 @@ class CampaignDashboard(Twinned):
             self.progress.max = max(int(self.trials_planned or 0), len(self.metrics), 1)
             self.progress.bar_style = "warning"
             self.status.value = self.partial_note()
-        elif not self.status.value:
-            self.status.value = f"{len(self.metrics)} trials"
+        else:
+            self.title = type(self).title
+            if was_partial:  # the campaign shown before was unfinished: drop its bar style and note
+                self.progress.bar_style = _FINISHED_BAR
+                self.status.value = ""
+            if not self.status.value:
+                self.status.value = f"{len(self.metrics)} trials"
         self._bands: dict[str, Band] = {}
         self._build()
 
@@ -351,9 +361,14 @@ class CampaignDashboard(Twinned):
         return self.trials_planned is not None
 
     def partial_note(self) -> str:
-        """``"partial: <done> of <planned> trials finished; the verdicts cover those only"`` ("" when finished)."""
+        """``"partial: <done> of <planned> trials finished; the verdicts cover those only"`` ("" when finished).
+
+        With no trial finished yet: ``"partial: no trial of <planned> finished yet"``.
+        """
         if not self.partial or self.metrics is None:
             return ""
+        if len(self.metrics) == 0:
+            return f"partial: no trial of {self.trials_planned} finished yet"
         return f"partial: {len(self.metrics)} of {self.trials_planned} trials finished; the verdicts cover those only"
 
     def metric_names(self) -> list[str]:
@@ -411,10 +426,14 @@ class CampaignDashboard(Twinned):
     # ------------------------------------------------------------------ tables
 
     def verdict_table(self) -> str:
-        """The requirement verdicts with their intervals, as an HTML table (one ``verdict-row`` per requirement)."""
+        """The requirement verdicts with their intervals, as an HTML table (one ``verdict-row`` per requirement).
+
+        Below the table, the caution the reports carry
+        (:data:`~wavebench.report.html.CAUTION`, in a ``wavebench-caution`` paragraph).
+        """
         if not self.verdicts:
             if self.partial and self.spec is not None and len(self.spec.requirements):
-                return f"<p class='wavebench-partial'><b>{escape(self.partial_note())}</b>: no trial finished yet.</p>"
+                return f"<p class='wavebench-partial'><b>{escape(self.partial_note())}</b>.</p>"
             return "<p>No requirements in the spec: nothing to pass or fail.</p>"
         head = ("<tr><th>requirement</th><th>condition</th><th>met / trials</th>"
                 "<th>P(met) [Clopper–Pearson interval]</th><th>quantile [bootstrap interval]</th>"
@@ -448,8 +467,10 @@ class CampaignDashboard(Twinned):
             note = (f"<p class='wavebench-partial'><b>{escape(self.partial_note())}</b>. The campaign is unfinished "
                     "(still running or interrupted): these verdicts are provisional, not final; open the store "
                     "again to see more trials.</p>")  # fmt: skip
+        caution = ("<p class='wavebench-caution' role='note' style='border-left:4px solid #c8553d;"
+                   f"padding:0.2em 0.6em;max-width:48em'><b>Caution.</b> {escape(CAUTION)}</p>")  # fmt: skip
         return (note + "<table class='wavebench-verdicts' style='border-collapse:collapse'>" + head + "".join(rows)
-                + "</table>")  # fmt: skip
+                + "</table>" + caution)  # fmt: skip
 
     # ------------------------------------------------------------------ live panel
 
