@@ -181,6 +181,11 @@ def test_the_dashboard_opens_an_unfinished_store_and_says_partial(interrupted: P
     assert player is not None and int(player.stored_metrics["trial"]) == 3 and player.source == str(interrupted)
     reproduced = player.reproduced()
     assert len(reproduced) > 20 and all(same for *_, same in reproduced)
+    # a trial the store does not hold yet replays too, with no stored row to compare against
+    from wavebench.ui.player import TrialPlayer
+
+    later = TrialPlayer.from_store(interrupted, STOP_AFTER + 1)
+    assert later.trial == STOP_AFTER + 1 and later.stored_metrics is None
 
 
 def test_a_partial_dashboard_refilled_with_the_finished_campaign_drops_its_partial_marks(interrupted: Path,

@@ -122,7 +122,7 @@ def test_sensitivity_bars_are_spearman_rho(dash: CampaignDashboard) -> None:
         x = dash.metrics[param].to_numpy(dtype=float)
         ok = np.isfinite(x) & np.isfinite(y)
         rho = spearmanr(x[ok], y[ok]).statistic  # scipy reference
-        assert bars[param[len("param."):]] == pytest.approx(np.nan_to_num(rho), abs=1e-12), param
+        assert bars[param[len("param.") :]] == pytest.approx(np.nan_to_num(rho), abs=1e-12), param
 
 
 def test_clicking_a_scatter_point_opens_that_trial_in_the_player(store: Path, dash: CampaignDashboard) -> None:

@@ -739,11 +739,7 @@ class CampaignDashboard(Twinned):
         if self.spec is None:
             raise ParameterError("spec", None, "the campaign's spec, to replay a trial")
         try:
-            if self.store_dir is not None and self.partial:  # no finished store to read yet: the row shown here
-                rows = self.metrics[self.trials == int(trial)]
-                player = TrialPlayer(self.spec, int(trial), stored_metrics=rows.iloc[0] if len(rows) else None,
-                                     source=str(self.store_dir))  # fmt: skip
-            elif self.store_dir is not None:
+            if self.store_dir is not None:  # finished or not: the store's row beside the replay
                 player = TrialPlayer.from_store(self.store_dir, int(trial))
             else:
                 player = TrialPlayer(self.spec, int(trial))

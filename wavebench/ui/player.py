@@ -300,18 +300,21 @@ class TrialPlayer(Twinned):
         Parameters
         ----------
         store_dir : path-like
-            A store folder written by ``wavebench run``.
+            A store folder written by ``wavebench run``, finished or not (a
+            campaign still running or interrupted: the rows of its finished
+            trials so far).
         trial : int
             The trial number.
 
         Returns
         -------
         TrialPlayer
-            With the store's metrics row beside the replay's in the metrics table.
+            With the store's metrics row beside the replay's in the metrics
+            table (none for a trial the store does not hold yet).
         """
         from ..campaign import read_store
 
-        store = read_store(store_dir)
+        store = read_store(store_dir, partial=True)
         metrics = store["metrics"]
         rows = metrics[metrics["trial"] == int(trial)]
         row = rows.iloc[0] if len(rows) else None
