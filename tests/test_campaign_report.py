@@ -5,6 +5,12 @@ are invented, only to have something to render: they are never check
 values. The checks compare with references outside the project: the
 stdlib HTML and XML parsers for well-formedness, numpy.histogram for the
 histogram bins and numpy.nanpercentile for the percentile bands.
+
+The interim report of an unfinished store is rendered from a real
+campaign (the built-in ``skerrow_sound`` spec, shortened) stopped part way
+as Ctrl-C stops it; what it shows is checked against the chunk files read
+independently with pandas, the spec's thresholds and the exact binomial
+interval of ``scipy.stats.binomtest`` (Clopper & Pearson, 1934).
 """
 
 from __future__ import annotations
@@ -22,7 +28,9 @@ import pytest
 import xarray as xr
 from scipy import stats
 
-from wavebench.core.errors import ParameterError
+from wavebench.campaign import run_campaign
+from wavebench.cli import main
+from wavebench.core.errors import ParameterError, WavebenchWarning
 from wavebench.report.campaign import campaign_report_html, nan_percentiles, write_campaign_report
 from wavebench.report.charts import band_chart, histogram_chart
 from wavebench.report.html import CAUTION
@@ -294,6 +302,114 @@ def test_not_a_store_is_refused(tmp_path: Path) -> None:
     (store / "metrics.parquet").unlink()
     with pytest.raises(ParameterError, match=r"metrics\.parquet"):
         campaign_report_html(store)
+
+
+# ---------------------------------------------------------------------------
+# the interim report of an unfinished store
+# ---------------------------------------------------------------------------
+
+PARTIAL_SETTINGS = ["scenario.duration_s=30.0", "campaign.trials=10", "campaign.batch_size=2"]
+PARTIAL_PLANNED = 10
+
+
+def _stop_after_first_chunk(_output, done: int, _planned: int) -> None:
+    if done > 0:
+        raise KeyboardInterrupt  # as Ctrl-C would, between chunks
+
+
+@pytest.fixture(scope="module")
+def unfinished(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    """A real campaign stopped after its first chunk: chunks/plan.json, spec.toml, no manifest.json."""
+    spec = load_spec(example_spec_path("skerrow_sound"), PARTIAL_SETTINGS)
+    store = tmp_path_factory.mktemp("unfinished") / "store"
+    with pytest.warns(WavebenchWarning, match="interrupted"):
+        result = run_campaign(spec, progress=False, store=store, on_chunk=_stop_after_first_chunk)
+    assert not result.complete
+    assert (store / "chunks" / "plan.json").is_file() and not (store / "manifest.json").exists()
+    return store
+
+
+def _chunk_rows(store: Path) -> pd.DataFrame:
+    """The finished trials, read straight from the chunk metrics files with pandas."""
+    files = sorted((store / "chunks").glob("metrics-*.parquet"))
+    assert files
+    return pd.concat([pd.read_parquet(f) for f in files], ignore_index=True)
+
+
+def test_interim_report_of_an_unfinished_store(unfinished: Path, tmp_path: Path) -> None:
+    rows = _chunk_rows(unfinished)
+    n = len(rows)
+    planned = json.loads((unfinished / "chunks" / "plan.json").read_text(encoding="utf-8"))["trials"]
+    assert planned == PARTIAL_PLANNED and 0 < n < planned
+
+    out = write_campaign_report(unfinished, tmp_path / "interim.html")
+    page = out.read_text(encoding="utf-8")
+    p = _check_html(page)
+    _assert_offline(p, page)
+
+    # marked interim in the title and heading, with a banner under the caution giving n of N
+    assert re.search(r"<title>[^<]*interim[^<]*</title>", page)
+    assert re.search(r"<h1>[^<]*interim[^<]*</h1>", page)
+    caution = page.index('<p class="caution"')
+    banner = page.index('<p class="warn interim"')
+    assert caution < banner < page.index('<section id="summary"')
+    banner_text = page[banner : page.index("</p>", banner)]
+    assert f"{n} of {planned} planned trials had finished" in banner_text and "provisional" in banner_text
+    # the caution stays at the top and at the bottom
+    assert page.count("no substitute for sea trials") == 2
+    assert page.rindex("no substitute for sea trials") > page.index("<footer>")
+    # the verdicts section says provisional
+    assert "<h2>Requirement verdicts (provisional)</h2>" in page
+
+    # how the trials ended: the counts of the finished rows, nothing else
+    section = page[page.index('<section id="outcomes"') : page.index('<section id="metrics"')]
+    shown = {k: int(c) for k, c in re.findall(r"<tr><td>([a-z]+)</td><td class='num'>(\d+)</td>", section)}
+    counts = rows["ended"].astype(str).value_counts()
+    assert {k: c for k, c in shown.items() if c} == {str(k): int(c) for k, c in counts.items()}
+    assert f"<tr><th>all</th><th class='num'>{n}</th>" in section
+    # the tracks and the bands cover the finished trials only
+    assert f"Tracks of {n} trials" in page
+    assert f"percentiles across the {n} trials" in page
+
+    # the verdicts: trials counted and met from the chunk rows and the spec's thresholds, and the exact
+    # binomial interval of scipy.stats.binomtest (Clopper & Pearson, 1934)
+    spec = load_spec(unfinished / "spec.toml")
+    vrows = re.findall(r"<tr class='verdict-row'>(.*?)</tr>", page, flags=re.S)
+    assert len(vrows) == len(spec.requirements) > 0
+    for row, (name, req) in zip(vrows, spec.requirements, strict=True):
+        values = rows[req.metric].to_numpy(dtype=float)
+        met = values < req.threshold if req.comparator == "below" else values > req.threshold  # NaN: not met
+        k = int(np.count_nonzero(met))
+        ci = stats.binomtest(k, n).proportion_ci(confidence_level=req.confidence, method="exact")
+        assert f"<td>{name}</td>" in row and f"<td class='num'>{k} / {n}" in row
+        assert f"[{ci.low:.3g}, {ci.high:.3g}]" in row, (name, row)
+
+
+def test_wavebench_report_on_an_unfinished_store(unfinished: Path, tmp_path: Path,
+                                                 capsys: pytest.CaptureFixture[str]) -> None:  # fmt: skip
+    out = tmp_path / "cli.html"
+    assert main(["report", str(unfinished), "--html", str(out)]) == 0
+    assert str(out) in capsys.readouterr().out
+    page = out.read_text(encoding="utf-8")
+    n = len(_chunk_rows(unfinished))
+    assert f"{n} of {PARTIAL_PLANNED} planned trials had finished" in page
+    # nothing written into the store but what the campaign wrote
+    assert not (unfinished / "manifest.json").exists() and not (unfinished / "report.html").exists()
+
+
+def test_unfinished_store_without_a_finished_trial_is_refused(unfinished: Path, tmp_path: Path) -> None:
+    store = tmp_path / "store"
+    shutil.copytree(unfinished, store)
+    for f in (store / "chunks").glob("metrics-*.parquet"):
+        f.unlink()
+    with pytest.raises(ParameterError, match=rf"none of its {PARTIAL_PLANNED} planned trials has finished"):
+        campaign_report_html(store)
+
+
+def test_folder_with_only_a_spec_is_not_a_store(tmp_path: Path) -> None:
+    shutil.copyfile(example_spec_path("skerrow_sound"), tmp_path / "spec.toml")
+    with pytest.raises(ParameterError, match=r"manifest\.json"):
+        campaign_report_html(tmp_path)
 
 
 def _bars(svg: ET.Element) -> list[ET.Element]:

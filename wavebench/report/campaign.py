@@ -13,6 +13,14 @@ ran, the ranges of the drawn parameters, and the study sections of
 trials closest to failing). :func:`write_campaign_report`
 writes it to ``DIR/report.html``.
 
+An unfinished store (a campaign still running into the folder, or
+interrupted: ``chunks/plan.json`` and no ``manifest.json``) gets an interim
+report of the trials finished so far, read with
+:func:`~wavebench.campaign.store.read_store` (``partial=True``): its title
+says interim, a banner under the caution gives how many of the planned
+trials had finished, and its verdicts, computed on those trials only, are
+marked provisional.
+
 Every text taken from the store is HTML-escaped.
 """
 
@@ -327,8 +335,9 @@ def _pct(v: Any) -> str:
         return "–"
 
 
-def _verdicts_section(verdicts: list[dict[str, Any]]) -> str:
-    parts = ['<section id="verdicts"><h2>Requirement verdicts</h2>']
+def _verdicts_section(verdicts: list[dict[str, Any]], *, interim: bool = False) -> str:
+    heading = "Requirement verdicts (provisional)" if interim else "Requirement verdicts"
+    parts = [f'<section id="verdicts"><h2>{heading}</h2>']
     if not verdicts:
         parts.append("<p>No requirements in the spec: nothing to pass or fail.</p></section>")
         return "\n".join(parts)
@@ -371,7 +380,11 @@ def _verdicts_section(verdicts: list[dict[str, Any]]) -> str:
         "<p class='note'>P(met) is the share of trials meeting the requirement, with its two-sided "
         "Clopper–Pearson (exact binomial) interval at the stated confidence. The quantile column gives the "
         "metric's value at the stated probability level across trials, with a bootstrap percentile interval. "
-        "Verdicts are as the run computed them (verdicts.json).</p></section>"
+        + (
+            "Provisional: computed on the trials finished so far, not on the whole campaign.</p></section>"
+            if interim
+            else "Verdicts are as the run computed them (verdicts.json).</p></section>"
+        )
     )
     return "\n".join(parts)
 
@@ -634,6 +647,10 @@ def campaign_report_html(store_dir: str | os.PathLike[str]) -> str:
         ``spec.toml``, ``timeseries.zarr`` and ``verdicts.json`` are used when
         present (without time series the time-series sections are left
         out; without verdicts the page says there are no requirements).
+        Or an unfinished store (``chunks/plan.json``, ``spec.toml`` and the
+        finished chunks' metrics files, no ``manifest.json``): the page is
+        then an interim report of the trials finished so far, with
+        provisional verdicts computed on them.
 
     Returns
     -------
@@ -645,23 +662,55 @@ def campaign_report_html(store_dir: str | os.PathLike[str]) -> str:
     ------
     ParameterError
         When the folder is not a store: a required file is missing, or the
-        manifest is not a wavebench store manifest of format 1.
+        manifest is not a wavebench store manifest of format 1 (or, for an
+        unfinished store, when :func:`~wavebench.campaign.store.read_store`
+        refuses it or none of its trials has finished yet).
     """
     store = Path(store_dir)
     if not store.is_dir():
         raise ParameterError("store_dir", str(store), "an existing campaign store folder")
-    manifest = _read_manifest(store)
-    metrics = pd.read_parquet(_require(store, "metrics.parquet"))
-    verdicts = _read_verdicts(store)
-    spec_text, spec, spec_note = _read_spec(store)
-    ds = _read_timeseries(store)
+    from ..campaign.chunks import CHUNKS_DIR
+
+    interim = False
+    if not (store / "manifest.json").is_file() and (store / CHUNKS_DIR / "plan.json").is_file():
+        from ..campaign.store import read_store
+
+        data = read_store(store, partial=True)  # an unfinished store: the trials finished so far
+        interim = bool(data["partial"])  # False when the campaign finished while it was read
+        if interim and len(data["metrics"]) == 0:
+            raise ParameterError("store_dir", str(store), "a campaign store with at least one finished trial (it "
+                                 f"is unfinished and none of its {data['manifest'].get('trials_planned')} planned "
+                                 "trials has finished yet: write the report once a chunk has finished)")  # fmt: skip
+        manifest, metrics, spec, ds = data["manifest"], data["metrics"], data["spec"], data["timeseries"]
+        verdicts = [v.to_dict() for v in data["verdicts"]]
+        spec_text, spec_note = (store / "spec.toml").read_text(encoding="utf-8"), ""
+    else:
+        manifest = _read_manifest(store)
+        metrics = pd.read_parquet(_require(store, "metrics.parquet"))
+        verdicts = _read_verdicts(store)
+        spec_text, spec, spec_note = _read_spec(store)
+        ds = _read_timeseries(store)
 
     scenario = str(manifest.get("scenario") or (spec.scenario.name if spec is not None else "campaign"))
-    title = f"wavebench campaign: {scenario}"
+    title = f"wavebench interim campaign report: {scenario}" if interim else f"wavebench campaign: {scenario}"
     tally = ", ".join(f"{sum(1 for v in verdicts if v.get('verdict') == w)} {w}" for w in ("pass", "fail", "undecided"))
     headline = f"{_esc(manifest.get('trials', len(metrics)))} trials of {_esc(manifest.get('craft', '?'))}; " + (
         f"{len(verdicts)} requirements: {tally}." if verdicts else "no requirements in the spec."
     )
+    banner: list[str] = []
+    if interim:
+        done, planned = manifest.get("trials_done", len(metrics)), manifest.get("trials_planned", "?")
+        headline = f"{_esc(done)} of {_esc(planned)} planned trials of {_esc(manifest.get('craft', '?'))}; " + (
+            f"{len(verdicts)} requirements (provisional): {tally}." if verdicts else "no requirements in the spec."
+        )
+        manifest = {**manifest, "trials": f"{done} finished of {planned} planned"}  # for the run summary
+        banner.append(
+            f'<p class="warn interim" role="note"><strong>Interim report.</strong> {_esc(done)} of '
+            f"{_esc(planned)} planned trials had finished when this report was written (the campaign was still "
+            "running or was interrupted). Every section covers those trials only; the verdicts are provisional "
+            "and can change when the other trials finish. Write the report again once the campaign has "
+            "finished (resume an interrupted one with <code>wavebench run --resume DIR</code>).</p>"
+        )
     sections = [("summary", "Run summary"), ("verdicts", "Verdicts"), ("outcomes", "Outcomes"),
                 ("metrics", "Metrics")]  # fmt: skip
     nav_sections = navigation_sections(ds, metrics, spec) if ds is not None else []
@@ -677,11 +726,12 @@ def campaign_report_html(store_dir: str | os.PathLike[str]) -> str:
         "<header>",
         f"<h1>{_esc(title)}</h1>",
         f'<p class="caution" role="note"><strong>Caution.</strong> {_esc(CAUTION)}</p>',
+        *banner,
         f'<p class="sub">{headline}</p>',
         nav,
         "</header>",
         _summary_section(store, manifest, spec_text, spec, spec_note, ds),
-        _verdicts_section(verdicts),
+        _verdicts_section(verdicts, interim=interim),
         _outcomes_section(metrics),
         _histograms_section(metrics, verdicts),
     ]
