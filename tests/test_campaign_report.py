@@ -240,6 +240,10 @@ def test_full_store_report(tmp_path: Path) -> None:
         assert name in row and f'class="verdict v-{word}">{word}</span>' in row
     verdicts = json.loads((store / "verdicts.json").read_text())
     assert f"{verdicts[0]['p_low']:.3g}" in rows[0] and f"{verdicts[0]['p_high']:.3g}" in rows[0]
+    # trials without a value are counted as not met, and the row says so (not "failed": a truncated
+    # trial has no time to complete either)
+    for row, v in zip(rows, verdicts, strict=True):
+        assert (f"{v['n_failed']} without a value, counted as not met" in row) == bool(v["n_failed"])
 
     # failure reasons grouped with counts and example trials; text from files is escaped
     reasons = re.findall(r"<tr class='reason-row'>(.*?)</tr>", page, flags=re.S)

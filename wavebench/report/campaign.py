@@ -362,7 +362,7 @@ def _verdicts_section(verdicts: list[dict[str, Any]], *, interim: bool = False) 
         )
         met = f"{_esc(v.get('n_met', '–'))} / {_esc(v.get('n_trials', '–'))}"
         if v.get("n_failed"):
-            met += f"<br><span class='note'>{_esc(v.get('n_failed'))} failed</span>"
+            met += f"<br><span class='note'>{_esc(v.get('n_failed'))} without a value, counted as not met</span>"
         p = (
             f"{_num(v.get('p_hat'), 3)} [{_num(v.get('p_low'), 3)}, {_num(v.get('p_high'), 3)}]"
             f"<br><span class='note'>{_pct(v.get('confidence'))} confidence</span>"
