@@ -17,7 +17,6 @@ bars carry their bin edges and count as ``data-lo``, ``data-hi`` and
 
 from __future__ import annotations
 
-import hashlib
 import html
 import math
 from collections.abc import Callable, Sequence
@@ -26,7 +25,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from ..core.errors import ParameterError
-from .svg import PALETTE, Series, Svg, _fmt, nice_ticks, padded_span
+from .svg import PALETTE, Series, Svg, _content_id, _fmt, nice_ticks, padded_span
 
 __all__ = [
     "MAP_DEPTH_COLORS",
@@ -51,10 +50,7 @@ _SHADE = "#5f5f5f"
 
 def _uid(*parts: object) -> str:
     """A short id that is stable for the same content (for clip paths in one page)."""
-    h = hashlib.sha1()
-    for p in parts:
-        h.update(np.asarray(p).tobytes() if isinstance(p, np.ndarray) else repr(p).encode())
-    return "c" + h.hexdigest()[:12]
+    return "c" + _content_id(*parts)
 
 
 def _text_width(text: str, size: float = 11.0) -> float:
